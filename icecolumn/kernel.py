@@ -1,0 +1,708 @@
+r"""Method-of-lines column kernel: finite-volume right-hand side and implicit stepper.
+
+Grid
+----
+``N`` layers of equal thickness :math:`\Delta = h/N` span the ice from the surface
+(depth 0) to the ice-ocean interface (depth ``h``); interfaces ``j = 0..N`` sit at
+depth :math:`j\Delta`.  The grid follows the ice: when the base moves at
+:math:`\dot h`, interface ``j`` moves down at :math:`w_j = (j/N)\dot h` relative to
+the ice, so content is exchanged between neighbouring layers by upwind advection in
+the grid frame (a moving-grid finite-volume scheme).
+
+Prognostic variables (per member)
+---------------------------------
+``e_k = Delta H_k`` [J m-2] enthalpy content and ``m_k = Delta rho S_k / 1000`` [kg m-2]
+salt content of each layer, and the thickness ``h`` [m].  Cumulative budget terms are
+extra components of the same ODE system, built from the same face fluxes:
+
+======  ==========================================================================
+index   budget component (all cumulative since the start of the run)
+======  ==========================================================================
+0       energy through the upper surface (conduction into the ice) [J m-2]
+1       ocean heat flux into the ice base [J m-2]
+2       enthalpy carried by sea water taken up (growth) or leaving (melt) [J m-2]
+3       salt in all sea water taken up (``salt_entrained``) [kg m-2]
+4       salt released to the ocean by basal melt [kg m-2]
+5       salt released to the ocean by gravity drainage (net: brine out minus
+        sea water in) [kg m-2]
+======  ==========================================================================
+
+Face fluxes (positive downward)
+-------------------------------
+* surface: conduction :math:`F_0` from the surface scheme (prescribed surface
+  temperature or linearised heat transfer with air), through an optional snow slab;
+* interior: :math:`F_j = k_{j-1/2}(T_{j-1} - T_j)/\Delta` with the harmonic mean of
+  the neighbouring conductivities;
+* base: :math:`-F_w - \dot h H_w` for energy (ocean heat flux plus the enthalpy of the
+  water crossing the interface, ``H_w = rho c_l T_f``) and :math:`-\dot h\,\rho S_w/1000`
+  (growth) or :math:`-\dot h\, m_N/\Delta` (melt) for salt;
+* advection across moving interfaces: :math:`-w_j q_{\mathrm{up}}` with ``q`` the
+  content per volume of the upwind layer.
+
+Because every layer's tendency is a difference of face fluxes and the budget
+components integrate the boundary fluxes with the same stage weights, the discrete
+energy and salt budgets close to round-off whatever the Newton tolerance: the final
+update of each step is evaluated explicitly from the converged stage values.
+
+Basal growth
+------------
+The interface is at the ocean freezing temperature ``T_f(S_w)``.  Its velocity is the
+interface heat balance
+:math:`\dot h\,(H_w - H_N) = F_c - F_w` with :math:`F_c = k_N (T_f - T_N)/(\Delta/2)`,
+the conductive flux leaving the interface into the bottom layer.  New ice enters at
+ocean salinity (its liquid fraction tends to 1 at the interface; Notz & Worster 2009,
+JGR 114, C05006: salinity is continuous across the growing interface, no segregation);
+all desalination is then done by the drainage fluxes.  With this choice the bottom layer
+evolves as a layer conducting :math:`F_c` through its lower face.  The enthalpy jump is
+bounded below by ``0.02 rho L`` so the rate stays finite if the bottom layer is almost
+liquid.  Melting is throttled smoothly to zero at a minimum thickness of 5 mm (complete
+melt-out is not modelled yet).
+
+Time stepping
+-------------
+TR-BDF2 (Bank et al. 1985; Hosea & Shampine 1996, Appl. Numer. Math. 20, 21-37) as a
+stiffly accurate, L-stable ESDIRK method with an embedded first-order error estimate,
+per-member step control (each member has its own step and error norm, so its result
+never depends on the batch it is in).  Each implicit stage is solved by Newton's method
+with the basal velocity as an extra algebraic unknown: the Jacobian is block-tridiagonal
+(2x2 blocks for enthalpy and salt of each layer) bordered by two columns (thickness and
+basal velocity) and two rows; it is solved in O(N) by the block Thomas algorithm and a
+2x2 Schur complement.  The temperature derivatives come from the exact enthalpy inverse;
+the small dependence of conductivity on the state is left out (a quasi-Newton method).
+The integrator restarts at every output time, so the state written to the output file
+is its whole memory (restart is bitwise).
+"""
+from __future__ import annotations
+
+import numpy as np
+from numba import njit
+
+from .phase import invert_enthalpy_scalar, liquidus_temperature_scalar
+from .properties import conductivity_scalar
+
+# ---------------------------------------------------------------------------------------
+# parameter vector layout (one row per member)
+P_RHO = 0
+P_CS = 1
+P_CL = 2
+P_L = 3
+P_KMODEL = 4
+P_KICE = 5
+P_SW = 6
+P_FW = 7
+P_HTC = 8
+P_KSNOW = 9
+P_HSNOW = 10
+P_SURF = 11  # 0 linear, 1 prescribed surface temperature
+P_RTOL = 12
+P_MAXDT = 13
+P_INITDT = 14
+P_DRAIN = 15  # drainage scheme code (0 none)
+P_TMELT = 16  # surface melting point [degC]
+NPAR = 32
+
+NBUDGET = 6
+B_E_SURF = 0
+B_E_OCEAN = 1
+B_E_WATER = 2
+B_S_ENTRAIN = 3
+B_S_MELT = 4
+B_S_DRAIN = 5
+
+SURFACE_SCHEMES = {"linear": 0, "prescribed": 1}
+
+# TR-BDF2 coefficients
+_GAMMA = 2.0 - np.sqrt(2.0)
+_D = _GAMMA / 2.0
+_W = np.sqrt(2.0) / 4.0
+_B1 = _W
+_B2 = _W
+_B3 = _D
+_E1 = _W - (1.0 - _W) / 3.0
+_E2 = _W - (3.0 * _W + 1.0) / 3.0
+_E3 = _D - _D / 3.0
+
+H_MIN = 0.005  # m, melting is throttled to zero at this thickness
+DENOM_MIN = 0.02  # fraction of rho L bounding the basal enthalpy jump
+
+
+def state_size(n):
+    """Length of one member's state vector for ``n`` layers."""
+    return 2 * n + 1 + NBUDGET
+
+
+@njit(cache=True)
+def _interp(ft, fv, t, i0):
+    """Linear interpolation of (ft, fv) at t; i0 is a search hint. Returns (value, index)."""
+    n = ft.size
+    i = i0
+    if i < 0:
+        i = 0
+    if i > n - 2:
+        i = n - 2
+    while i > 0 and ft[i] > t:
+        i -= 1
+    while i < n - 2 and ft[i + 1] <= t:
+        i += 1
+    t0 = ft[i]
+    t1 = ft[i + 1]
+    a = (t - t0) / (t1 - t0)
+    if a < 0.0:
+        a = 0.0
+    if a > 1.0:
+        a = 1.0
+    return fv[i] + a * (fv[i + 1] - fv[i]), i
+
+
+@njit(cache=True)
+def _cells(y, n, par, temp, phi, sbr, dtde, dtdm, kc):
+    """Intensive state of each layer and the temperature derivatives w.r.t. contents."""
+    rho = par[P_RHO]
+    cs = par[P_CS]
+    cl = par[P_CL]
+    lat = par[P_L]
+    model = int(par[P_KMODEL])
+    kice = par[P_KICE]
+    h = y[2 * n]
+    dz = h / n
+    for k in range(n):
+        hv = y[k] / dz
+        s = 1000.0 * y[n + k] / (rho * dz)
+        t, p, b, dth, dts = invert_enthalpy_scalar(hv, s, rho, cs, cl, lat)
+        temp[k] = t
+        phi[k] = p
+        sbr[k] = b
+        dtde[k] = dth / dz
+        dtdm[k] = dts * 1000.0 / (rho * dz)
+        kc[k] = conductivity_scalar(model, t, p, s, kice)
+
+
+@njit(cache=True)
+def _surface(t0, k0, dz, ta, ts_presc, par):
+    """Downward conductive flux into the top layer, its derivative w.r.t. T0, and T_s."""
+    rs = par[P_HSNOW] / par[P_KSNOW] if par[P_HSNOW] > 0.0 else 0.0
+    rc = 0.5 * dz / k0 + rs  # resistance surface -> top-layer centre
+    tm = par[P_TMELT]
+    if int(par[P_SURF]) == 1:
+        ts = ts_presc if ts_presc < tm else tm
+        f = (ts - t0) / rc
+        return f, -1.0 / rc, ts
+    hc = par[P_HTC]
+    rt = 1.0 / hc + rc
+    f = (ta - t0) / rt
+    ts = ta - f / hc
+    if ts > tm:
+        ts = tm
+        f = (tm - t0) / rc
+        return f, -1.0 / rc, ts
+    return f, -1.0 / rt, ts
+
+
+@njit(cache=True)
+def _hdot(tb, kb, hb_vol, dz, h, fw, par):
+    """Basal velocity from the interface heat balance [m s-1]."""
+    rho = par[P_RHO]
+    tf = liquidus_temperature_scalar(par[P_SW])
+    hw = rho * par[P_CL] * tf
+    fc = kb * (tf - tb) / (0.5 * dz)
+    den = hw - hb_vol
+    dmin = DENOM_MIN * rho * par[P_L]
+    if den < dmin:
+        den = dmin
+    r = (fc - fw) / den
+    if r < 0.0:
+        a = (h - H_MIN) / H_MIN
+        if a < 0.0:
+            a = 0.0
+        if a > 1.0:
+            a = 1.0
+        r = r * a
+    return r
+
+
+@njit(cache=True)
+def _hdot_of_state(y, n, par, fw):
+    """Basal velocity evaluated from the state vector (bottom layer only)."""
+    rho = par[P_RHO]
+    h = y[2 * n]
+    dz = h / n
+    k = n - 1
+    hv = y[k] / dz
+    s = 1000.0 * y[n + k] / (rho * dz)
+    t, p, b, _, _ = invert_enthalpy_scalar(hv, s, rho, par[P_CS], par[P_CL], par[P_L])
+    kb = conductivity_scalar(int(par[P_KMODEL]), t, p, s, par[P_KICE])
+    return _hdot(t, kb, hv, dz, h, fw, par)
+
+
+@njit(cache=True)
+def _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells):
+    """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
+
+    ``r`` is the basal velocity used by the advective fluxes. If ``want_cells`` the
+    intensive arrays are (re)computed first. Returns the surface temperature and the
+    derivative of the surface flux w.r.t. the top temperature.
+    """
+    if want_cells:
+        _cells(y, n, par, temp, phi, sbr, dtde, dtdm, kc)
+    rho = par[P_RHO]
+    h = y[2 * n]
+    dz = h / n
+    tf = liquidus_temperature_scalar(par[P_SW])
+    hw = rho * par[P_CL] * tf
+    mw = rho * par[P_SW] / 1000.0
+    f0, df0, ts = _surface(temp[0], kc[0], dz, ta, tsp, par)
+    for i in range(2 * n + 1 + NBUDGET):
+        f[i] = 0.0
+    # face 0 (surface)
+    f[0] += f0
+    # interior faces
+    for j in range(1, n):
+        kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
+        fc = kf * (temp[j - 1] - temp[j]) / dz
+        w = r * j / n
+        if w > 0.0:
+            ae = -w * y[j] / dz
+            am = -w * y[n + j] / dz
+        else:
+            ae = -w * y[j - 1] / dz
+            am = -w * y[n + j - 1] / dz
+        f[j - 1] -= fc + ae
+        f[j] += fc + ae
+        f[n + j - 1] -= am
+        f[n + j] += am
+    # base (face n)
+    if r > 0.0:
+        sm = r * mw
+    else:
+        sm = r * y[2 * n - 1] / dz
+    f[n - 1] += fw + r * hw
+    f[2 * n - 1] += sm
+    f[2 * n] = r
+    nb = 2 * n + 1
+    f[nb + B_E_SURF] = f0
+    f[nb + B_E_OCEAN] = fw
+    f[nb + B_E_WATER] = r * hw
+    if sm > 0.0:
+        f[nb + B_S_ENTRAIN] = sm
+    else:
+        f[nb + B_S_MELT] = -sm
+    return ts, df0
+
+
+@njit(cache=True)
+def _dr_column(y, r, n, par, col):
+    """d f_cells / d r (the rhs is piecewise linear in r)."""
+    rho = par[P_RHO]
+    h = y[2 * n]
+    dz = h / n
+    tf = liquidus_temperature_scalar(par[P_SW])
+    hw = rho * par[P_CL] * tf
+    mw = rho * par[P_SW] / 1000.0
+    for i in range(2 * n):
+        col[i] = 0.0
+    for j in range(1, n):
+        c = j / n
+        if r > 0.0:
+            ae = -c * y[j] / dz
+            am = -c * y[n + j] / dz
+        else:
+            ae = -c * y[j - 1] / dz
+            am = -c * y[n + j - 1] / dz
+        col[j - 1] -= ae
+        col[j] += ae
+        col[n + j - 1] -= am
+        col[n + j] += am
+    col[n - 1] += hw
+    if r > 0.0:
+        col[2 * n - 1] += mw
+    else:
+        col[2 * n - 1] += y[2 * n - 1] / dz
+
+
+@njit(cache=True)
+def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up):
+    """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m])."""
+    h = y[2 * n]
+    dz = h / n
+    for k in range(n):
+        for p in range(4):
+            lo[k, p] = 0.0
+            di[k, p] = 0.0
+            up[k, p] = 0.0
+    # surface flux into layer 0: d f_e0 / d(e0, m0) += df0 * dT0/d(.)
+    di[0, 0] += df0 * dtde[0]
+    di[0, 1] += df0 * dtdm[0]
+    for j in range(1, n):
+        kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
+        g = kf / dz
+        # F_j = g (T_{j-1} - T_j); f_e[j-1] -= F_j ; f_e[j] += F_j
+        # derivatives w.r.t. layer j-1 (e, m)
+        a0 = g * dtde[j - 1]
+        a1 = g * dtdm[j - 1]
+        b0 = -g * dtde[j]
+        b1 = -g * dtdm[j]
+        di[j - 1, 0] -= a0
+        di[j - 1, 1] -= a1
+        up[j - 1, 0] -= b0
+        up[j - 1, 1] -= b1
+        lo[j, 0] += a0
+        lo[j, 1] += a1
+        di[j, 0] += b0
+        di[j, 1] += b1
+        # advection: flux into j-1 from upwind layer
+        w = r * j / n
+        if w > 0.0:
+            c = -w / dz  # d(ae)/d(e_j)
+            up[j - 1, 0] -= c
+            up[j - 1, 3] -= c
+            di[j, 0] += c
+            di[j, 3] += c
+        else:
+            c = -w / dz  # d(ae)/d(e_{j-1})
+            di[j - 1, 0] -= c
+            di[j - 1, 3] -= c
+            lo[j, 0] += c
+            lo[j, 3] += c
+    if r <= 0.0:
+        di[n - 1, 3] += r / dz
+    # A = I - a dt J
+    for k in range(n):
+        for p in range(4):
+            lo[k, p] = -a_dt * lo[k, p]
+            di[k, p] = -a_dt * di[k, p]
+            up[k, p] = -a_dt * up[k, p]
+        di[k, 0] += 1.0
+        di[k, 3] += 1.0
+
+
+@njit(cache=True)
+def _block_solve(n, lo, di, up, rhs, nrhs, work_m, work_g):
+    """Solve the block-tridiagonal system in place for ``nrhs`` right-hand sides.
+
+    rhs has shape (nrhs, 2n) with layer k occupying entries (k, n + k).
+    """
+    # forward sweep
+    for k in range(n):
+        m00 = di[k, 0]
+        m01 = di[k, 1]
+        m10 = di[k, 2]
+        m11 = di[k, 3]
+        if k > 0:
+            # M = D_k - L_k G_{k-1}
+            l00 = lo[k, 0]
+            l01 = lo[k, 1]
+            l10 = lo[k, 2]
+            l11 = lo[k, 3]
+            g00 = work_g[k - 1, 0]
+            g01 = work_g[k - 1, 1]
+            g10 = work_g[k - 1, 2]
+            g11 = work_g[k - 1, 3]
+            m00 -= l00 * g00 + l01 * g10
+            m01 -= l00 * g01 + l01 * g11
+            m10 -= l10 * g00 + l11 * g10
+            m11 -= l10 * g01 + l11 * g11
+            for q in range(nrhs):
+                p0 = rhs[q, k - 1]
+                p1 = rhs[q, n + k - 1]
+                rhs[q, k] -= l00 * p0 + l01 * p1
+                rhs[q, n + k] -= l10 * p0 + l11 * p1
+        det = m00 * m11 - m01 * m10
+        i00 = m11 / det
+        i01 = -m01 / det
+        i10 = -m10 / det
+        i11 = m00 / det
+        work_m[k, 0] = i00
+        work_m[k, 1] = i01
+        work_m[k, 2] = i10
+        work_m[k, 3] = i11
+        # G_k = M^-1 U_k
+        u00 = up[k, 0]
+        u01 = up[k, 1]
+        u10 = up[k, 2]
+        u11 = up[k, 3]
+        work_g[k, 0] = i00 * u00 + i01 * u10
+        work_g[k, 1] = i00 * u01 + i01 * u11
+        work_g[k, 2] = i10 * u00 + i11 * u10
+        work_g[k, 3] = i10 * u01 + i11 * u11
+        for q in range(nrhs):
+            p0 = rhs[q, k]
+            p1 = rhs[q, n + k]
+            rhs[q, k] = i00 * p0 + i01 * p1
+            rhs[q, n + k] = i10 * p0 + i11 * p1
+    # back substitution
+    for k in range(n - 2, -1, -1):
+        g00 = work_g[k, 0]
+        g01 = work_g[k, 1]
+        g10 = work_g[k, 2]
+        g11 = work_g[k, 3]
+        for q in range(nrhs):
+            x0 = rhs[q, k + 1]
+            x1 = rhs[q, n + k + 1]
+            rhs[q, k] -= g00 * x0 + g01 * x1
+            rhs[q, n + k] -= g10 * x0 + g11 * x1
+
+
+@njit(cache=True)
+def _err_norm(vec, y, n, par, ny):
+    """RMS norm of a change of (cells, h) in units of the tolerance."""
+    rho = par[P_RHO]
+    rtol = par[P_RTOL]
+    h = y[2 * n]
+    dz = h / n
+    se = rtol * rho * par[P_L] * dz
+    sm = rtol * rho * (par[P_SW] + 1.0) / 1000.0 * dz
+    sh = rtol * (h if h > 0.01 else 0.01)
+    acc = 0.0
+    for k in range(n):
+        a = vec[k] / se
+        b = vec[n + k] / sm
+        acc += a * a + b * b
+    c = vec[2 * n] / sh
+    acc += c * c
+    return np.sqrt(acc / (2 * n + 1))
+
+
+@njit(cache=True)
+def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc,
+                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit):
+    """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r)."""
+    ncell = 2 * n
+    r = _hdot_of_state(y, n, par, fw)
+    prev = 1e300
+    for it in range(maxit):
+        h = y[2 * n]
+        if not (h > 0.0):
+            return False, r
+        _ts, df0 = _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True)
+        # residuals (negated, as Newton rhs)
+        for i in range(ncell):
+            rhs[0, i] = -(y[i] - base[i] - a_dt * f[i])
+        res_h = -(y[2 * n] - base[2 * n] - a_dt * r)
+        hd = _hdot_of_state(y, n, par, fw)
+        res_r = -(r - hd)
+        # border column for h by finite difference of f at fixed r
+        dh = 1e-7 * h
+        for i in range(2 * n + 1 + NBUDGET):
+            ytmp[i] = y[i]
+        ytmp[2 * n] = h + dh
+        _rhs(ytmp, r, n, par, ta, tsp, fw, ftmp, temp, phi, sbr, dtde, dtdm, kc, True)
+        for i in range(ncell):
+            rhs[1, i] = -a_dt * (ftmp[i] - f[i]) / dh  # B column (h)
+        # border row for r: d hdot / d (e_b, m_b, h)
+        de = 1e-7 * (abs(y[n - 1]) + 1.0)
+        ytmp[2 * n] = h
+        ytmp[n - 1] = y[n - 1] + de
+        dhd_de = (_hdot_of_state(ytmp, n, par, fw) - hd) / de
+        ytmp[n - 1] = y[n - 1]
+        dm = 1e-7 * (abs(y[2 * n - 1]) + 1e-6)
+        ytmp[2 * n - 1] = y[2 * n - 1] + dm
+        dhd_dm = (_hdot_of_state(ytmp, n, par, fw) - hd) / dm
+        ytmp[2 * n - 1] = y[2 * n - 1]
+        ytmp[2 * n] = h + dh
+        dhd_dh = (_hdot_of_state(ytmp, n, par, fw) - hd) / dh
+        # restore intensive state at y (ytmp evaluation overwrote it)
+        _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True)
+        _dr_column(y, r, n, par, col_r)
+        for i in range(ncell):
+            rhs[2, i] = -a_dt * col_r[i]  # B column (r)
+        _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up)
+        _block_solve(n, lo, di, up, rhs, 3, work_m, work_g)
+        # Schur complement: unknowns (dh, dr); rows h: dh - a_dt dr = res_h
+        # row r: -dhd_de dx_e_b - dhd_dm dx_m_b - dhd_dh dh + dr = res_r
+        # with dx = X1 - X2 [dh, dr]
+        x1e = rhs[0, n - 1]
+        x1m = rhs[0, 2 * n - 1]
+        x2he = rhs[1, n - 1]
+        x2hm = rhs[1, 2 * n - 1]
+        x2re = rhs[2, n - 1]
+        x2rm = rhs[2, 2 * n - 1]
+        s00 = 1.0
+        s01 = -a_dt
+        s10 = -dhd_dh + dhd_de * x2he + dhd_dm * x2hm
+        s11 = 1.0 + dhd_de * x2re + dhd_dm * x2rm
+        g0 = res_h
+        g1 = res_r + dhd_de * x1e + dhd_dm * x1m
+        det = s00 * s11 - s01 * s10
+        ddh = (g0 * s11 - s01 * g1) / det
+        ddr = (s00 * g1 - s10 * g0) / det
+        for i in range(ncell):
+            ftmp[i] = rhs[0, i] - rhs[1, i] * ddh - rhs[2, i] * ddr
+        ftmp[2 * n] = ddh
+        nrm = _err_norm(ftmp, y, n, par, 2 * n + 1)
+        for i in range(ncell):
+            y[i] += ftmp[i]
+        y[2 * n] += ddh
+        r += ddr
+        if not (nrm == nrm):
+            return False, r
+        if nrm < 0.02:
+            return True, r
+        if it >= 2 and nrm > 0.9 * prev:
+            return False, r
+        prev = nrm
+    return False, r
+
+
+@njit(cache=True)
+def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
+    """Advance one member's state from t0 to t1 in place. Returns a status code.
+
+    0 success; 1 step size underflow (solver failure). nsteps_out[0] counts accepted
+    steps, nsteps_out[1] rejected steps, nsteps_out[2] Newton iterations (approximate).
+    """
+    ny = y.size
+    ncell = 2 * n
+    f1 = np.empty(ny)
+    f2 = np.empty(ny)
+    f3 = np.empty(ny)
+    y2 = np.empty(ny)
+    y3 = np.empty(ny)
+    base = np.empty(ny)
+    ytmp = np.empty(ny)
+    ftmp = np.empty(ny)
+    err = np.empty(ny)
+    col_r = np.empty(ncell)
+    temp = np.empty(n)
+    phi = np.empty(n)
+    sbr = np.empty(n)
+    dtde = np.empty(n)
+    dtdm = np.empty(n)
+    kc = np.empty(n)
+    lo = np.empty((n, 4))
+    di = np.empty((n, 4))
+    up = np.empty((n, 4))
+    rhs = np.empty((3, ncell))
+    work_m = np.empty((n, 4))
+    work_g = np.empty((n, 4))
+    fwdef = par[P_FW]
+    t = t0
+    dt = par[P_INITDT]
+    maxdt = par[P_MAXDT]
+    idx = 0
+    while t < t1:
+        if dt > maxdt:
+            dt = maxdt
+        last = False
+        if t + dt >= t1 - 1e-9 * (1.0 + abs(t1)):
+            dt = t1 - t
+            last = True
+        if dt < 1e-4:
+            return 1
+        # forcing at the three stage times
+        ta1, idx = _interp(ft, fa[:], t, idx)
+        ts1, _ = _interp(ft, fts[:], t, idx)
+        fw1, _ = _interp(ft, fq[:], t, idx)
+        if fw1 != fw1:
+            fw1 = fwdef
+        tg = t + _GAMMA * dt
+        ta2, i2 = _interp(ft, fa[:], tg, idx)
+        ts2, _ = _interp(ft, fts[:], tg, i2)
+        fw2, _ = _interp(ft, fq[:], tg, i2)
+        if fw2 != fw2:
+            fw2 = fwdef
+        ta3, i3 = _interp(ft, fa[:], t + dt, i2)
+        ts3, _ = _interp(ft, fts[:], t + dt, i3)
+        fw3, _ = _interp(ft, fq[:], t + dt, i3)
+        if fw3 != fw3:
+            fw3 = fwdef
+        # stage 1 (explicit)
+        r1 = _hdot_of_state(y, n, par, fw1)
+        _rhs(y, r1, n, par, ta1, ts1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True)
+        # stage 2
+        for i in range(ny):
+            base[i] = y[i] + dt * _D * f1[i]
+            y2[i] = y[i] + dt * _GAMMA * f1[i]
+        if not (y2[2 * n] > 0.5 * y[2 * n]):
+            y2[2 * n] = y[2 * n]
+        ok, r2 = _newton_stage(y2, base, _D * dt, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde,
+                               dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10)
+        nsteps_out[2] += 1
+        if ok:
+            r2 = _hdot_of_state(y2, n, par, fw2)
+            _rhs(y2, r2, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True)
+            for i in range(ny):
+                base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
+                y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
+            if not (y3[2 * n] > 0.5 * y[2 * n]):
+                y3[2 * n] = y2[2 * n]
+            ok, r3 = _newton_stage(y3, base, _D * dt, n, par, ta3, ts3, fw3, f3, temp, phi, sbr,
+                                   dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
+                                   col_r, 10)
+        if not ok:
+            dt *= 0.25
+            nsteps_out[1] += 1
+            continue
+        r3 = _hdot_of_state(y3, n, par, fw3)
+        _rhs(y3, r3, n, par, ta3, ts3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True)
+        for i in range(ny):
+            err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
+        en = _err_norm(err, y, n, par, 2 * n + 1)
+        if not (en == en):
+            en = 1e10
+        if en > 1.0:
+            fac = 0.9 * en ** (-1.0 / 3.0)
+            if fac < 0.2:
+                fac = 0.2
+            dt *= fac
+            nsteps_out[1] += 1
+            continue
+        # accept: explicit flux-form update from the converged stages (conservative)
+        for i in range(ny):
+            y[i] = y[i] + dt * (_B1 * f1[i] + _B2 * f2[i] + _B3 * f3[i])
+        nsteps_out[0] += 1
+        t = t1 if last else t + dt
+        if en < 1e-10:
+            fac = 5.0
+        else:
+            fac = 0.9 * en ** (-1.0 / 3.0)
+            if fac > 5.0:
+                fac = 5.0
+            if fac < 0.2:
+                fac = 0.2
+        dt *= fac
+    return 0
+
+
+@njit(cache=True)
+def advance(ys, t0, t1, n, pars, ft, fa, fts, fq, status, counters):
+    """Advance every member (rows of ``ys``) from t0 to t1 [s]; each member on its own.
+
+    Parameters
+    ----------
+    ys : (members, state) float64, modified in place
+    pars : (members, NPAR) float64
+    ft : (ntimes,) forcing times [s]
+    fa, fts, fq : (members, ntimes) air temperature [degC], surface temperature [degC]
+        (NaN when absent), ocean heat flux [W m-2] (NaN: use the member's parameter)
+    status : (members,) int64 out; counters : (members, 3) int64 accumulated
+    """
+    for mbr in range(ys.shape[0]):
+        if status[mbr] != 0:
+            continue
+        status[mbr] = _step_member(ys[mbr], t0, t1, n, pars[mbr], ft, fa[mbr], fts[mbr], fq[mbr],
+                                   counters[mbr])
+
+
+@njit(cache=True)
+def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hdot):
+    """Layer temperature, liquid fraction, brine and bulk salinity, conductivity; surface
+    temperature and basal velocity of every member at time t."""
+    nm = ys.shape[0]
+    dtde = np.empty(n)
+    dtdm = np.empty(n)
+    for mbr in range(nm):
+        y = ys[mbr]
+        par = pars[mbr]
+        _cells(y, n, par, temp[mbr], phi[mbr], sbr[mbr], dtde, dtdm, kc[mbr])
+        h = y[2 * n]
+        dz = h / n
+        for k in range(n):
+            sal[mbr, k] = 1000.0 * y[n + k] / (par[P_RHO] * dz)
+        ta, i = _interp(ft, fa[mbr], t, 0)
+        tsp, _ = _interp(ft, fts[mbr], t, i)
+        fw, _ = _interp(ft, fq[mbr], t, i)
+        if fw != fw:
+            fw = par[P_FW]
+        _f, _d, ts = _surface(temp[mbr, 0], kc[mbr, 0], dz, ta, tsp, par)
+        tsurf[mbr] = ts
+        hdot[mbr] = _hdot_of_state(y, n, par, fw)

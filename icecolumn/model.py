@@ -1,0 +1,315 @@
+"""Run pipeline: configuration + forcing -> kernel -> xarray.Dataset.
+
+This module assembles the parameter vectors and the initial state, walks the output
+times and calls the compiled kernel (:mod:`icecolumn.kernel`) for a batch of members,
+then hands the collected arrays to :mod:`icecolumn.output` to build the CF Dataset.
+A single run is a batch of one through the same code.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Callable, Sequence
+
+import numpy as np
+import xarray as xr
+
+from . import kernel as K
+from .config import Config, default_config
+from .drainage import DRAINAGE_CODES, drainage_parameters
+from .errors import IceColumnError, InputError
+from .phase import liquidus_temperature_scalar, state_enthalpy
+from .properties import CONDUCTIVITY_MODELS
+from .timeutil import parse_duration, parse_time
+
+
+@dataclass
+class Member:
+    """One column of a batch: its configuration and forcing."""
+
+    config: Config
+    forcing: xr.Dataset
+
+
+@dataclass
+class InitialProfile:
+    """Optional measured initial state (depths below the ice surface)."""
+
+    depth: np.ndarray | None = None  # m
+    temperature: np.ndarray | None = None  # degC
+    salinity_depth: np.ndarray | None = None  # m
+    salinity: np.ndarray | None = None  # g/kg
+
+
+@dataclass
+class RawResult:
+    """Arrays collected from the kernel at every output time (members first)."""
+
+    times: np.ndarray
+    layers: int
+    state: np.ndarray  # (member, time, state)
+    temperature: np.ndarray
+    liquid_fraction: np.ndarray
+    brine_salinity: np.ndarray
+    bulk_salinity: np.ndarray
+    surface_temperature: np.ndarray
+    air_temperature_mean: np.ndarray
+    ocean_heat_flux_mean: np.ndarray
+    ocean_heat_flux_source: list
+    configs: list
+    forcings: list
+    counters: np.ndarray
+    extra: dict = field(default_factory=dict)
+
+
+def parameter_vector(cfg: Config) -> np.ndarray:
+    """Kernel parameter row for one member (see ``kernel.P_*``)."""
+    p = np.zeros(K.NPAR)
+    pr = cfg.properties
+    p[K.P_RHO] = pr.ice_density
+    p[K.P_CS] = pr.ice_specific_heat
+    p[K.P_CL] = pr.brine_specific_heat
+    p[K.P_L] = pr.latent_heat
+    p[K.P_KMODEL] = CONDUCTIVITY_MODELS[pr.conductivity_model]
+    p[K.P_KICE] = pr.ice_conductivity
+    p[K.P_SW] = cfg.ocean.salinity
+    p[K.P_FW] = cfg.ocean.heat_flux
+    p[K.P_HTC] = cfg.surface.heat_transfer_coefficient
+    p[K.P_KSNOW] = pr.snow_conductivity
+    p[K.P_HSNOW] = cfg.initial.snow_thickness
+    p[K.P_SURF] = K.SURFACE_SCHEMES[cfg.surface.scheme]
+    p[K.P_RTOL] = cfg.solver.rtol
+    p[K.P_MAXDT] = parse_duration(cfg.solver.max_step)
+    p[K.P_INITDT] = parse_duration(cfg.solver.initial_step)
+    p[K.P_DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
+    p[K.P_TMELT] = 0.0
+    drainage_parameters(cfg, p)
+    return p
+
+
+def ocean_freezing_temperature(cfg: Config) -> float:
+    """Freezing temperature of the ocean [degC] on the model liquidus."""
+    return float(liquidus_temperature_scalar(cfg.ocean.salinity))
+
+
+def initial_state(cfg: Config, surface_temperature: float, profile: InitialProfile | None = None) -> np.ndarray:
+    """Initial state vector of one member.
+
+    Temperature is linear between ``surface_temperature`` and the ocean freezing point
+    at the base, salinity uniform (``[initial] bulk_salinity``), unless ``profile``
+    supplies measured values (interpolated to the layer centres).
+    """
+    n = cfg.grid.layers
+    h = cfg.initial.ice_thickness
+    tf = ocean_freezing_temperature(cfg)
+    z = (np.arange(n) + 0.5) / n * h
+    ts = min(surface_temperature, tf)
+    temp = ts + (tf - ts) * z / h
+    sal = np.full(n, cfg.initial.bulk_salinity)
+    if profile is not None:
+        if profile.temperature is not None:
+            temp = np.interp(z, profile.depth, profile.temperature)
+            temp = np.minimum(temp, tf)
+        if profile.salinity is not None:
+            sal = np.interp(z, profile.salinity_depth, profile.salinity)
+    pr = cfg.properties
+    hv, _ = state_enthalpy(temp, sal, pr.ice_density, pr.ice_specific_heat, pr.brine_specific_heat,
+                           pr.latent_heat)
+    dz = h / n
+    y = np.zeros(K.state_size(n))
+    y[:n] = hv * dz
+    y[n:2 * n] = pr.ice_density * sal / 1000.0 * dz
+    y[2 * n] = h
+    return y
+
+
+def _steady_surface_temperature(cfg: Config, air: float) -> float:
+    """Surface temperature of a linear profile in balance with the linear surface flux."""
+    tf = ocean_freezing_temperature(cfg)
+    k = 2.0 if cfg.properties.conductivity_model != "constant" else cfg.properties.ice_conductivity
+    r_ice = cfg.initial.ice_thickness / k
+    if cfg.initial.snow_thickness > 0:
+        r_ice += cfg.initial.snow_thickness / cfg.properties.snow_conductivity
+    hc = cfg.surface.heat_transfer_coefficient
+    # flux (air -> base) through 1/H + R; surface temperature T_a + (T_f - T_a)/(1 + H R) ...
+    ts = air + (tf - air) * (1.0 / hc) / (1.0 / hc + r_ice)
+    return min(ts, tf)
+
+
+def run_period(cfg: Config, forcing: xr.Dataset, source: str = "forcing") -> tuple[np.datetime64, np.datetime64]:
+    """Start and end of the run: ``[run]`` start/end or the forcing file's span."""
+    t = forcing["time"].values
+    start = parse_time(cfg.run.start) if cfg.run.start else t[0]
+    end = parse_time(cfg.run.end) if cfg.run.end else t[-1]
+    if start < t[0] or end > t[-1]:
+        raise InputError(
+            f"{source}: the forcing covers {str(t[0])[:19]} to {str(t[-1])[:19]} but the run needs "
+            f"{str(start)[:19]} to {str(end)[:19]} ([run] start/end)")
+    if not end > start:
+        raise InputError(f"{source}: [run] end must be after start")
+    return start, end
+
+
+def output_times(start: np.datetime64, end: np.datetime64, interval_s: float) -> np.ndarray:
+    """Output times from start to end every interval (the end is always included)."""
+    step = np.timedelta64(int(round(interval_s * 1e9)), "ns")
+    n = int((end - start) // step)
+    times = start + step * np.arange(n + 1)
+    if times[-1] < end:
+        times = np.append(times, end)
+    return times.astype("datetime64[ns]")
+
+
+def _cumulative_integral(ft: np.ndarray, fv: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """Exact integral of the piecewise-linear interpolant of (ft, fv) from ft[0] to t."""
+    knots = np.concatenate([[0.0], np.cumsum(0.5 * (fv[1:] + fv[:-1]) * np.diff(ft))])
+    i = np.clip(np.searchsorted(ft, t, side="right") - 1, 0, len(ft) - 2)
+    v = np.interp(t, ft, fv)
+    return knots[i] + 0.5 * (fv[i] + v) * (t - ft[i])
+
+
+def _interval_mean(ft, fv, t):
+    c = _cumulative_integral(ft, fv, t)
+    out = np.full(t.shape, np.nan)
+    out[1:] = np.diff(c) / np.diff(t)
+    return out
+
+
+def _forcing_arrays(members: Sequence[Member], start: np.datetime64):
+    """Common forcing time axis (seconds since start) and per-member value arrays."""
+    axes = [m.forcing["time"].values.astype("datetime64[ns]") for m in members]
+    same = all(a.shape == axes[0].shape and np.array_equal(a, axes[0]) for a in axes)
+    common = axes[0] if same else np.unique(np.concatenate(axes))
+    ft = (common - start) / np.timedelta64(1, "s")
+    ft = ft.astype(float)
+    nm = len(members)
+    fa = np.empty((nm, ft.size))
+    fts = np.full((nm, ft.size), np.nan)
+    fq = np.full((nm, ft.size), np.nan)
+    for i, m in enumerate(members):
+        own = (m.forcing["time"].values.astype("datetime64[ns]") - start) / np.timedelta64(1, "s")
+        own = own.astype(float)
+        fa[i] = np.interp(ft, own, m.forcing["air_temperature"].values)
+        if "surface_temperature" in m.forcing:
+            fts[i] = np.interp(ft, own, m.forcing["surface_temperature"].values)
+        if "ocean_heat_flux" in m.forcing:
+            fq[i] = np.interp(ft, own, m.forcing["ocean_heat_flux"].values)
+    return ft, fa, fts, fq
+
+
+def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = None,
+             profiles: Sequence[InitialProfile | None] | None = None,
+             progress: Callable[[int, int], None] | None = None,
+             source: str = "forcing") -> RawResult:
+    """Run a batch of members through the kernel and collect raw arrays.
+
+    All members share the run period and output interval of the first member.
+    """
+    if not members:
+        raise InputError("no members to run")
+    cfg0 = members[0].config
+    n = cfg0.grid.layers
+    for m in members:
+        if m.config.grid.layers != n:
+            raise InputError("all members of a batch must have the same [grid] layers")
+    start, end = run_period(cfg0, members[0].forcing, source)
+    for m in members[1:]:
+        run_period(cfg0, m.forcing, source)
+    interval = parse_duration(cfg0.output.interval)
+    times = output_times(start, end, interval)
+    tsec = ((times - start) / np.timedelta64(1, "s")).astype(float)
+    ft, fa, fts, fq = _forcing_arrays(members, start)
+    nm = len(members)
+    pars = np.ascontiguousarray(np.stack([parameter_vector(m.config) for m in members]))
+    ys = np.empty((nm, K.state_size(n)))
+    for i, m in enumerate(members):
+        if initial_states is not None:
+            ys[i] = initial_states[i]
+            continue
+        prof = profiles[i] if profiles is not None else None
+        air0 = float(np.interp(0.0, ft, fa[i]))
+        if m.config.surface.scheme == "prescribed":
+            if not np.isfinite(fts[i]).all():
+                raise InputError(f"{source}: [surface] scheme = 'prescribed' needs a 'surface_temperature' column")
+            ts0 = float(np.interp(0.0, ft, fts[i]))
+        else:
+            ts0 = _steady_surface_temperature(m.config, air0)
+        ys[i] = initial_state(m.config, ts0, prof)
+    nt = times.size
+    state = np.empty((nm, nt, ys.shape[1]))
+    shp = (nm, nt, n)
+    temp = np.empty(shp)
+    phi = np.empty(shp)
+    sbr = np.empty(shp)
+    sal = np.empty(shp)
+    kc = np.empty((nm, n))
+    tsurf = np.empty((nm, nt))
+    hdot = np.empty(nm)
+    status = np.zeros(nm, np.int64)
+    counters = np.zeros((nm, 3), np.int64)
+    tmp = [np.empty((nm, n)) for _ in range(4)]
+    tsv = np.empty(nm)
+
+    def record(it):
+        state[:, it] = ys
+        K.diagnose(ys, n, pars, ft, fa, fts, fq, tsec[it], tmp[0], tmp[1], tmp[2], tmp[3], kc, tsv, hdot)
+        temp[:, it] = tmp[0]
+        phi[:, it] = tmp[1]
+        sbr[:, it] = tmp[2]
+        sal[:, it] = tmp[3]
+        tsurf[:, it] = tsv
+
+    record(0)
+    for it in range(1, nt):
+        K.advance(ys, tsec[it - 1], tsec[it], n, pars, ft, fa, fts, fq, status, counters)
+        if status.any():
+            bad = int(np.flatnonzero(status)[0])
+            raise IceColumnError(
+                f"solver failed for member {bad} between {str(times[it - 1])[:19]} and "
+                f"{str(times[it])[:19]} (step size underflow); try a smaller [solver] max_step or rtol")
+        record(it)
+        if progress is not None:
+            progress(it, nt - 1)
+    air_mean = np.stack([_interval_mean(ft, fa[i], tsec) for i in range(nm)])
+    fq_used = np.where(np.isfinite(fq), fq, pars[:, K.P_FW][:, None])
+    fq_mean = np.stack([_interval_mean(ft, fq_used[i], tsec) for i in range(nm)])
+    fq_source = ["forcing column ocean_heat_flux" if np.isfinite(fq[i]).all() else "configuration [ocean] heat_flux"
+                 for i in range(nm)]
+    return RawResult(times=times, layers=n, state=state, temperature=temp, liquid_fraction=phi,
+                     brine_salinity=sbr, bulk_salinity=sal, surface_temperature=tsurf,
+                     air_temperature_mean=air_mean, ocean_heat_flux_mean=fq_mean,
+                     ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
+                     forcings=[m.forcing for m in members], counters=counters)
+
+
+def run(forcing: xr.Dataset, config: Config | None = None, *, progress=None,
+        profile: InitialProfile | None = None, initial_state_vector: np.ndarray | None = None) -> xr.Dataset:
+    """Run one column and return the result as a CF ``xarray.Dataset``.
+
+    Parameters
+    ----------
+    forcing : xarray.Dataset
+        From :func:`icecolumn.read_forcing` (``time``, ``air_temperature`` [degC], ...).
+    config : Config, optional
+        Defaults to :func:`icecolumn.default_config`.
+
+    Returns
+    -------
+    xarray.Dataset
+        The same Dataset :func:`icecolumn.write_netcdf` writes to disk.
+    """
+    from .output import to_dataset
+
+    cfg = config if config is not None else default_config()
+    init = None if initial_state_vector is None else initial_state_vector[None, :]
+    raw = simulate([Member(cfg, forcing)], initial_states=init,
+                   profiles=[profile] if profile is not None else None, progress=progress,
+                   source=str(forcing.attrs.get("source_file", "forcing")))
+    return to_dataset(raw)
+
+
+def run_ensemble(members: Sequence[Member], *, progress=None) -> xr.Dataset:
+    """Run several columns as one batch; the Dataset has a ``member`` dimension."""
+    from .output import to_dataset
+
+    raw = simulate(members, progress=progress)
+    return to_dataset(raw, keep_member=True)

@@ -1,0 +1,204 @@
+"""Model result -> CF-1.8 ``xarray.Dataset``, and atomic NetCDF writing.
+
+State variables are instantaneous at the output times; fluxes and forcing echoes are
+means over the output interval that *ends* at each time (``cell_methods = "time:
+mean"``; NaN at the first time).  Cumulative budget terms start at 0.
+"""
+from __future__ import annotations
+
+import hashlib
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from . import kernel as K
+from ._version import __version__
+from .errors import InputError
+
+CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
+           "and follow local ice-safety rules and qualified guidance.")
+
+THICKNESS_DEFINITION = (
+    "ice_thickness is the depth of the tracked ice-ocean interface below the ice surface, where the "
+    "mushy bottom reaches the ocean freezing temperature (liquid fraction -> 1); the porous bottom is "
+    "part of the ice, so depth means over the layers include it with equal weight per layer.")
+
+
+def _attrs(units, long_name, standard_name=None, cell_methods=None, **more):
+    a = {"units": units, "long_name": long_name}
+    if standard_name:
+        a["standard_name"] = standard_name
+    if cell_methods:
+        a["cell_methods"] = cell_methods
+    a.update(more)
+    return a
+
+
+def _interval_rate(cum: np.ndarray, tsec: np.ndarray) -> np.ndarray:
+    out = np.full(cum.shape, np.nan)
+    out[..., 1:] = np.diff(cum, axis=-1) / np.diff(tsec)
+    return out
+
+
+def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
+    """Build the CF Dataset from a :class:`icecolumn.model.RawResult`.
+
+    With one member and ``keep_member=False`` the ``member`` dimension is dropped.
+    """
+    n = raw.layers
+    st = raw.state
+    nm, nt = st.shape[:2]
+    times = raw.times
+    tsec = ((times - times[0]) / np.timedelta64(1, "s")).astype(float)
+    e = st[..., :n]
+    m = st[..., n:2 * n]
+    h = st[..., 2 * n]
+    b = st[..., 2 * n + 1:]
+    e_surf = b[..., K.B_E_SURF]
+    e_ocean = b[..., K.B_E_OCEAN]
+    e_water = b[..., K.B_E_WATER]
+    s_ent = b[..., K.B_S_ENTRAIN]
+    s_melt = b[..., K.B_S_MELT]
+    s_drain = b[..., K.B_S_DRAIN]
+    energy_input = e_surf + e_ocean + e_water
+    salt_released = s_melt + s_drain
+    frac = (np.arange(n) + 0.5) / n
+    depth = h[..., None] * frac
+    bounds = np.stack([h[..., None] * (np.arange(n) / n), h[..., None] * ((np.arange(n) + 1) / n)], axis=-1)
+    snow = np.array([c.initial.snow_thickness for c in raw.configs])[:, None] * np.ones((nm, nt))
+
+    dims_t = ("member", "time")
+    dims_tl = ("member", "time", "layer")
+    cm = "time: mean (interval ending at each time)"
+    cum = "cumulative since the start of the run"
+    v = {}
+    v["ice_thickness"] = (dims_t, h, _attrs("m", "ice thickness (depth of the ice-ocean interface)",
+                                            "sea_ice_thickness", comment=THICKNESS_DEFINITION))
+    v["snow_thickness"] = (dims_t, snow, _attrs("m", "snow thickness on the ice", "surface_snow_thickness"))
+    v["surface_temperature"] = (dims_t, raw.surface_temperature,
+                                _attrs("degC", "temperature of the upper (snow or ice) surface",
+                                       "sea_ice_surface_temperature",
+                                       comment="capped at the melting point 0 degC"))
+    v["air_temperature"] = (dims_t, raw.air_temperature_mean,
+                            _attrs("degC", "air temperature (forcing)", "air_temperature", cm))
+    v["growth_rate"] = (dims_t, _interval_rate(h, tsec),
+                        _attrs("m s-1", "rate of change of ice thickness",
+                               "tendency_of_sea_ice_thickness_due_to_thermodynamics", cm))
+    v["ocean_heat_flux"] = (dims_t, raw.ocean_heat_flux_mean,
+                            _attrs("W m-2", "ocean heat flux into the ice base", None, cm,
+                                   source="; ".join(sorted(set(raw.ocean_heat_flux_source)))))
+    v["temperature"] = (dims_tl, raw.temperature, _attrs("degC", "ice temperature of the layer",
+                                                         "sea_ice_temperature"))
+    v["bulk_salinity"] = (dims_tl, raw.bulk_salinity, _attrs("g kg-1", "bulk salinity of the layer",
+                                                             "sea_ice_salinity"))
+    v["liquid_fraction"] = (dims_tl, raw.liquid_fraction,
+                            _attrs("1", "liquid (brine) fraction of the layer",
+                                   comment="mass fraction = volume fraction under the model's equal "
+                                           "ice and brine densities"))
+    v["brine_salinity"] = (dims_tl, raw.brine_salinity,
+                           _attrs("g kg-1", "salinity of the brine in the pores (liquidus)"))
+    v["enthalpy"] = (dims_tl, e / (h[..., None] / n),
+                     _attrs("J m-3", "enthalpy per unit volume of the layer (reference liquid at 0 degC)"))
+    v["salt_content"] = (dims_t, m.sum(-1), _attrs("kg m-2", "salt in the ice column",
+                                                    "sea_ice_mass_content_of_salt"))
+    v["salt_entrained"] = (dims_t, s_ent, _attrs("kg m-2", f"salt in all sea water taken up by the ice, {cum}"))
+    v["salt_released"] = (dims_t, salt_released,
+                          _attrs("kg m-2", f"net salt that crossed the ice base into the ocean, {cum}",
+                                 comment="sum of salt_released_drainage and salt_released_melt; a brine "
+                                         "exchange counts as brine out minus ocean water in"))
+    v["salt_released_drainage"] = (dims_t, s_drain,
+                                   _attrs("kg m-2", f"net salt released by gravity drainage, {cum}"))
+    v["salt_released_melt"] = (dims_t, s_melt, _attrs("kg m-2", f"salt released by basal melt, {cum}"))
+    v["salt_flux"] = (dims_t, _interval_rate(salt_released, tsec),
+                      _attrs("kg m-2 s-1", "net salt flux from the ice base into the ocean",
+                             "downward_sea_ice_basal_salt_flux", cm,
+                             comment="interval mean of the change of salt_released; positive into the ocean"))
+    v["enthalpy_content"] = (dims_t, e.sum(-1), _attrs("J m-2", "enthalpy of the ice column "
+                                                                "(reference liquid at 0 degC)"))
+    v["energy_input"] = (dims_t, energy_input,
+                         _attrs("J m-2", f"net energy that entered the column, {cum}",
+                                comment="sum of energy_input_surface, energy_input_ocean and energy_input_water"))
+    v["energy_input_surface"] = (dims_t, e_surf, _attrs("J m-2", f"heat conducted into the ice at its surface, {cum}"))
+    v["energy_input_ocean"] = (dims_t, e_ocean, _attrs("J m-2", f"ocean heat flux into the ice base, {cum}"))
+    v["energy_input_water"] = (dims_t, e_water,
+                               _attrs("J m-2", f"enthalpy carried by sea water taken up (growth) or leaving "
+                                               f"(melt) at the base, {cum}"))
+    v["depth"] = (dims_tl, depth, _attrs("m", "depth of the layer centre below the ice surface",
+                                         positive="down", bounds="depth_bounds"))
+    v["depth_bounds"] = (dims_tl + ("nv",), bounds, {"units": "m", "long_name": "depth of the layer top and bottom"})
+    v["layer_state"] = (("member", "time", "state"), st,
+                        {"units": "1", "long_name": "prognostic state vector (float64; restart data)",
+                         "comment": "per layer enthalpy content [J m-2], then salt content [kg m-2], "
+                                    "then thickness [m], then cumulative budget terms"})
+    ds = xr.Dataset({k: xr.Variable(*val) for k, val in v.items()},
+                    coords={"time": ("time", times, {"standard_name": "time", "long_name": "time (UTC)",
+                                                      "axis": "T"}),
+                            "layer": ("layer", np.arange(1, n + 1, dtype=np.int32),
+                                      {"long_name": "layer index, 1 at the top", "units": "1"}),
+                            "member": ("member", np.arange(nm, dtype=np.int32), {"long_name": "ensemble member",
+                                                                                 "units": "1"})})
+    ds = ds.set_coords("depth")
+    cfg0 = raw.configs[0]
+    forcing0 = raw.forcings[0]
+    ds.attrs = {
+        "Conventions": "CF-1.8",
+        "title": f"icecolumn run: {os.path.basename(str(forcing0.attrs.get('source_file', 'forcing')))}",
+        "institution": "icecolumn user",
+        "source": f"icecolumn {__version__} one-dimensional mushy-layer sea-ice column model",
+        "history": f"{np.datetime64('now')}Z created by icecolumn {__version__}",
+        "references": "see README.md and DEVELOPERS.md of icecolumn",
+        "icecolumn_version": __version__,
+        "icecolumn_config": cfg0.to_toml(),
+        "forcing_file": str(forcing0.attrs.get("source_file", "<in memory>")),
+        "forcing_sha256": str(forcing0.attrs.get("sha256", "")),
+        "caution": CAUTION,
+        "ice_thickness_definition": THICKNESS_DEFINITION,
+        "surface_scheme": cfg0.surface.scheme,
+        "drainage_scheme": cfg0.drainage.scheme,
+        "solver_steps_accepted": int(raw.counters[:, 0].sum()),
+        "solver_steps_rejected": int(raw.counters[:, 1].sum()),
+    }
+    if not keep_member and nm == 1:
+        ds = ds.isel(member=0, drop=True)
+    return ds
+
+
+def write_netcdf(ds: xr.Dataset, path, overwrite: bool = False) -> Path:
+    """Write ``ds`` to ``path`` atomically (temporary file in the same folder, then rename).
+
+    Raises :class:`InputError` if ``path`` exists and ``overwrite`` is False.
+    """
+    path = Path(path)
+    if path.exists() and not overwrite:
+        raise InputError(f"{path}: file exists; use --overwrite to replace it")
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"{path}: folder {folder} does not exist")
+    enc = {}
+    for name, var in ds.variables.items():
+        if var.dtype.kind == "f":
+            enc[name] = {"dtype": "float64", "zlib": True, "complevel": 1, "_FillValue": np.nan}
+    enc["time"] = {"units": f"hours since {str(ds['time'].values[0])[:19].replace('T', ' ')}",
+                   "calendar": "standard", "dtype": "float64"}
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    os.close(fd)
+    try:
+        ds.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+    return path
+
+
+def file_sha256(path) -> str:
+    """Hex SHA-256 digest of a file's bytes."""
+    h = hashlib.sha256()
+    with open(path, "rb") as f:
+        for chunk in iter(lambda: f.read(1 << 20), b""):
+            h.update(chunk)
+    return h.hexdigest()

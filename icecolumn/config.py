@@ -61,7 +61,9 @@ SURFACE_SCHEMES: tuple[str, ...] = ("linear", "prescribed")
 #: Names accepted by ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
 #: Names accepted by ``[drainage] scheme``.
-DRAINAGE_SCHEMES: tuple[str, ...] = ("none",)
+DRAINAGE_SCHEMES: tuple[str, ...] = ("none", "griewank_notz2013", "rees_jones_worster2014")
+#: Names accepted by ``[drainage] permeability``.
+PERMEABILITY_CHOICES: tuple[str, ...] = ("scheme", "freitag1999", "golden2007")
 
 
 @dataclass(frozen=True)
@@ -126,7 +128,12 @@ PARAMETERS: dict[str, Param] = {
     "properties.brine_specific_heat": Param(3990.0, "J kg-1 K-1", "specific heat capacity of brine", "float", 0.0, None, True),
     "properties.latent_heat": Param(334000.0, "J kg-1", "latent heat of fusion of ice", "float", 0.0, None, True),
     "properties.snow_conductivity": Param(0.31, "W m-1 K-1", "thermal conductivity of snow", "float", 0.0, None, True),
-    "drainage.scheme": Param("none", "", "brine gravity drainage scheme", "choice", choices=DRAINAGE_SCHEMES),
+    "drainage.scheme": Param("griewank_notz2013", "", "brine gravity drainage scheme (none switches drainage off)", "choice", choices=DRAINAGE_SCHEMES),
+    "drainage.flux_coefficient": Param(None, "scheme units", "drainage flux coefficient alpha (unset: the scheme's published or calibrated value)", "float", 0.0),
+    "drainage.critical_rayleigh": Param(None, "1", "critical mush Rayleigh number (unset: the scheme's value)", "float", 0.0),
+    "drainage.permeability": Param("scheme", "", "permeability law (scheme: the law the scheme was calibrated with)", "choice", choices=PERMEABILITY_CHOICES),
+    "drainage.percolation_threshold": Param(0.03, "1", "liquid fraction below which ice is impermeable (published 0.02-0.05; default 0.03 after Maus et al. 2021 for young ice)", "float", 0.0, 0.2),
+    "drainage.onset_smoothing": Param(1.0, "1", "width of the C1 smoothing of (Ra - Ra_c)+ in Rayleigh units", "float", 0.0, None, True),
     "output.interval": Param("6h", "", "time between output records (e.g. 30min, 1h, 6h, 1D)", "duration", multiple_of=60.0),
     "solver.rtol": Param(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True),
     "solver.max_step": Param("6h", "", "longest time step allowed", "duration"),
@@ -198,6 +205,8 @@ def _check_value(section: str, key: str, value: Any, source: str) -> Any:
         _check_bounds(p, seconds, fail, unit=" s")
         return value.strip()
     # numbers
+    if value is None and p.default is None:
+        return None  # unset: a documented fallback applies
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         wanted = "an integer" if p.kind == "int" else "a number"
         raise InputError(f"{where}: expected {wanted}, got {_show(value)}")
@@ -329,6 +338,11 @@ class DrainageSection(_Section):
 
     section: ClassVar[str] = "drainage"
     scheme: str = _default("drainage.scheme")
+    flux_coefficient: float | None = _default("drainage.flux_coefficient")
+    critical_rayleigh: float | None = _default("drainage.critical_rayleigh")
+    permeability: str = _default("drainage.permeability")
+    percolation_threshold: float = _default("drainage.percolation_threshold")
+    onset_smoothing: float = _default("drainage.onset_smoothing")
 
 
 @dataclass(frozen=True)
@@ -431,6 +445,10 @@ def _build(base: dict[str, dict[str, Any]], layers: list[tuple[str, Any]]) -> Co
         if not isinstance(data, dict):
             raise InputError(f"{source}: expected a table of sections, got {_show(data)}")
         for section, table in data.items():
+            if section not in SECTIONS and not isinstance(table, dict):
+                homes = [f"[{n}]" for n, cls in SECTIONS.items() if section in {f.name for f in dataclasses.fields(cls)}]
+                where = f"; it belongs in {' or '.join(homes)}" if homes else ""
+                raise InputError(f"{source}: key {str(section)!r} is outside any section{where}")
             if section not in SECTIONS:
                 hint = _suggest(str(section), list(SECTIONS), lambda s: f"[{s}]", "sections")
                 raise InputError(f"{source}: unknown section [{section}]; {hint}")

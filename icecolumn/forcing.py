@@ -254,7 +254,7 @@ def _build_dataset(
         finite = np.isfinite(values)
         if not finite.all():
             i = int(np.flatnonzero(~finite)[0])
-            raise InputError(f"{name}: {label(i)}: column {shown}: {values[i]!r} is not a finite number")
+            raise InputError(f"{name}: {label(i)}: column {shown}: {float(values[i])!r} is not a finite number")
         lo, hi = spec["range"]
         outside = (values < lo) | (values > hi)
         if outside.any():

@@ -25,6 +25,8 @@ index   budget component (all cumulative since the start of the run)
 4       salt released to the ocean by basal melt [kg m-2]
 5       salt released to the ocean by gravity drainage (net: brine out minus
         sea water in) [kg m-2]
+6       enthalpy carried by the drainage exchange (sea water in minus brine out) [J m-2]
+7       volume of brine drained to the ocean through channels [m]
 ======  ==========================================================================
 
 Face fluxes (positive downward)
@@ -77,7 +79,8 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
-from .phase import invert_enthalpy_scalar, liquidus_temperature_scalar
+from .constants import GRAVITY
+from .phase import brine_salinity_derivative_scalar, invert_enthalpy_scalar, liquidus_temperature_scalar
 from .properties import conductivity_scalar
 
 # ---------------------------------------------------------------------------------------
@@ -99,15 +102,28 @@ P_MAXDT = 13
 P_INITDT = 14
 P_DRAIN = 15  # drainage scheme code (0 none)
 P_TMELT = 16  # surface melting point [degC]
+# gravity drainage (see icecolumn.drainage)
+P_DALPHA = 17  # flux coefficient (scheme units)
+P_DRAC = 18  # critical Rayleigh number [1]
+P_DPHIC = 19  # percolation threshold [1]
+P_DPERM = 20  # permeability law code
+P_DAVG = 21  # 0 minimum, 1 harmonic mean permeability to the base
+P_DKAPPA = 22  # thermal diffusivity of brine [m2 s-1]
+P_DMU = 23  # dynamic viscosity of brine [kg m-1 s-1]
+P_DRAMP = 24  # smoothing width of the onset (Ra - Ra_c)+ [1]
+P_DPHIW = 25  # smoothing width of the percolation threshold [1]
+P_DBETA = 26  # brine density slope d rho / d S_br [kg m-3 (g/kg)-1]
 NPAR = 32
 
-NBUDGET = 6
+NBUDGET = 8
 B_E_SURF = 0
 B_E_OCEAN = 1
 B_E_WATER = 2
 B_S_ENTRAIN = 3
 B_S_MELT = 4
 B_S_DRAIN = 5
+B_E_DRAIN = 6
+B_V_DRAIN = 7
 
 SURFACE_SCHEMES = {"linear": 0, "prescribed": 1}
 
@@ -235,7 +251,104 @@ def _hdot_of_state(y, n, par, fw):
 
 
 @njit(cache=True)
-def _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells):
+def _ramp(x, eps):
+    """C1 ramp: 0 for x <= 0, x^2/(2 eps) up to eps, then x - eps/2 (smoothed (x)+)."""
+    if x <= 0.0:
+        return 0.0
+    if x < eps:
+        return 0.5 * x * x / eps
+    return x - 0.5 * eps
+
+
+@njit(cache=True)
+def permeability_scalar(law, phi, phic, phiw):
+    """Permeability [m2] of sea ice at liquid fraction ``phi`` [1].
+
+    law 0: Freitag (1999, PhD thesis, Bremen) 1e-17 (1e3 phi)^3.1 (from memory);
+    law 1: Golden et al. (2007, GRL 34, L16501) 3e-8 phi^3 (fit from memory).
+    Both are multiplied by a C1 step from 0 at the percolation threshold ``phic`` to 1
+    at ``phic + phiw`` (impermeable below the threshold).
+    """
+    if phi <= phic:
+        return 0.0
+    x = (phi - phic) / phiw
+    step = 1.0 if x >= 1.0 else x * x * (3.0 - 2.0 * x)
+    if law == 0:
+        base = 1e-17 * (1e3 * phi) ** 3.1
+    else:
+        base = 3e-8 * phi * phi * phi
+    return base * step
+
+
+@njit(cache=True)
+def _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra):
+    """Brine exchange of the gravity-drainage scheme.
+
+    Fills ``ra`` (local mush Rayleigh number of each layer), ``qsink`` (volume flux of
+    brine leaving each layer through channels to the ocean [m s-1]) and ``wflux``
+    (upward return flow through interface j, j = 0..n, [m s-1]; wflux[n] enters from
+    the ocean and equals the total drained volume flux).
+    """
+    code = int(par[P_DRAIN])
+    h = y[2 * n]
+    dz = h / n
+    for j in range(n + 1):
+        wflux[j] = 0.0
+    for k in range(n):
+        qsink[k] = 0.0
+        ra[k] = 0.0
+    if code == 0:
+        return
+    law = int(par[P_DPERM])
+    avg = int(par[P_DAVG])
+    phic = par[P_DPHIC]
+    phiw = par[P_DPHIW]
+    sw = par[P_SW]
+    coef = GRAVITY * par[P_DBETA] / (par[P_DKAPPA] * par[P_DMU])
+    # effective permeability between each layer and the base, from the bottom up
+    pmin = 1e300
+    inv_sum = 0.0
+    zero = False
+    for k in range(n - 1, -1, -1):
+        pk = permeability_scalar(law, phi[k], phic, phiw)
+        if pk <= 0.0:
+            zero = True
+        if avg == 0:
+            if pk < pmin:
+                pmin = pk
+            pe = pmin
+        else:
+            if not zero:
+                inv_sum += 1.0 / pk
+            pe = 0.0 if zero else (n - k) / inv_sum
+        height = h - (k + 0.5) * dz
+        ra[k] = coef * (sbr[k] - sw) * pe * height
+    alpha = par[P_DALPHA]
+    rac = par[P_DRAC]
+    eps = par[P_DRAMP]
+    if code == 1:
+        # Griewank & Notz (2013): brine mass flux alpha (Ra - Ra_c)+ dz from each layer
+        acc = 0.0
+        for k in range(n):
+            q = alpha * _ramp(ra[k] - rac, eps) * dz / par[P_RHO]
+            qsink[k] = q
+            acc += q
+            wflux[k + 1] = acc
+    else:
+        # Rees Jones & Worster (2014) form: upwelling velocity alpha (kappa / h) (Ra - Ra_c)+
+        # through the base of each layer, made monotonic downward (running maximum)
+        scale = alpha * par[P_DKAPPA] / h
+        wmax = 0.0
+        for k in range(n):
+            wk = scale * _ramp(ra[k] - rac, eps)
+            if wk > wmax:
+                wmax = wk
+            wflux[k + 1] = wmax
+            qsink[k] = wflux[k + 1] - wflux[k]
+
+
+@njit(cache=True)
+def _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra):
     """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
 
     ``r`` is the basal velocity used by the advective fluxes. If ``want_cells`` the
@@ -286,6 +399,32 @@ def _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cell
         f[nb + B_S_ENTRAIN] = sm
     else:
         f[nb + B_S_MELT] = -sm
+    if int(par[P_DRAIN]) != 0:
+        _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra)
+        rcl = rho * par[P_CL]
+        cw = rho / 1000.0
+        for j in range(1, n):
+            us = wflux[j] * cw * sbr[j]
+            ue = wflux[j] * rcl * temp[j]
+            f[n + j - 1] += us
+            f[n + j] -= us
+            f[j - 1] += ue
+            f[j] -= ue
+        win = wflux[n]
+        f[2 * n - 1] += win * mw
+        f[n - 1] += win * rcl * tf
+        sout = 0.0
+        eout = 0.0
+        for k in range(n):
+            qs = qsink[k] * cw * sbr[k]
+            qe = qsink[k] * rcl * temp[k]
+            f[n + k] -= qs
+            f[k] -= qe
+            sout += qs
+            eout += qe
+        f[nb + B_S_DRAIN] = sout - win * mw
+        f[nb + B_E_DRAIN] = win * rcl * tf - eout
+        f[nb + B_V_DRAIN] = win
     return ts, df0
 
 
@@ -320,8 +459,13 @@ def _dr_column(y, r, n, par, col):
 
 
 @njit(cache=True)
-def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up):
-    """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m])."""
+def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux):
+    """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m]).
+
+    Drainage enters with its local part only: the exchange of each layer with the layer
+    below at the current return flow (the dependence of the flow itself on the state,
+    through the Rayleigh number of every layer above, is left out).
+    """
     h = y[2 * n]
     dz = h / n
     for k in range(n):
@@ -365,6 +509,39 @@ def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up):
             lo[j, 3] += c
     if r <= 0.0:
         di[n - 1, 3] += r / dz
+    if int(par[P_DRAIN]) != 0:
+        rho = par[P_RHO]
+        rcl = rho * par[P_CL]
+        cw = rho / 1000.0
+        for j in range(n):
+            wj = wflux[j + 1]  # total outflow of layer j (to the layer above and to channels)
+            if wj <= 0.0:
+                continue
+            # d c / d(e, m) of layer j and of the layer below
+            if phi[j] >= 1.0:
+                cse = 0.0
+                csm = 1.0 / dz
+            else:
+                g = cw * brine_salinity_derivative_scalar(temp[j])
+                cse = g * dtde[j]
+                csm = g * dtdm[j]
+            di[j, 2] -= wj * cse
+            di[j, 3] -= wj * csm
+            di[j, 0] -= wj * rcl * dtde[j]
+            di[j, 1] -= wj * rcl * dtdm[j]
+            if j + 1 < n:
+                jb = j + 1
+                if phi[jb] >= 1.0:
+                    bse = 0.0
+                    bsm = 1.0 / dz
+                else:
+                    g = cw * brine_salinity_derivative_scalar(temp[jb])
+                    bse = g * dtde[jb]
+                    bsm = g * dtdm[jb]
+                up[j, 2] += wj * bse
+                up[j, 3] += wj * bsm
+                up[j, 0] += wj * rcl * dtde[jb]
+                up[j, 1] += wj * rcl * dtdm[jb]
     # A = I - a dt J
     for k in range(n):
         for p in range(4):
@@ -464,7 +641,7 @@ def _err_norm(vec, y, n, par, ny):
 
 @njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc,
-                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit):
+                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra):
     """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r)."""
     ncell = 2 * n
     r = _hdot_of_state(y, n, par, fw)
@@ -473,7 +650,7 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         h = y[2 * n]
         if not (h > 0.0):
             return False, r
-        _ts, df0 = _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True)
+        _ts, df0 = _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         # residuals (negated, as Newton rhs)
         for i in range(ncell):
             rhs[0, i] = -(y[i] - base[i] - a_dt * f[i])
@@ -485,7 +662,7 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         for i in range(2 * n + 1 + NBUDGET):
             ytmp[i] = y[i]
         ytmp[2 * n] = h + dh
-        _rhs(ytmp, r, n, par, ta, tsp, fw, ftmp, temp, phi, sbr, dtde, dtdm, kc, True)
+        _rhs(ytmp, r, n, par, ta, tsp, fw, ftmp, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         for i in range(ncell):
             rhs[1, i] = -a_dt * (ftmp[i] - f[i]) / dh  # B column (h)
         # border row for r: d hdot / d (e_b, m_b, h)
@@ -501,11 +678,11 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         ytmp[2 * n] = h + dh
         dhd_dh = (_hdot_of_state(ytmp, n, par, fw) - hd) / dh
         # restore intensive state at y (ytmp evaluation overwrote it)
-        _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True)
+        _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         _dr_column(y, r, n, par, col_r)
         for i in range(ncell):
             rhs[2, i] = -a_dt * col_r[i]  # B column (r)
-        _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up)
+        _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux)
         _block_solve(n, lo, di, up, rhs, 3, work_m, work_g)
         # Schur complement: unknowns (dh, dr); rows h: dh - a_dt dr = res_h
         # row r: -dhd_de dx_e_b - dhd_dm dx_m_b - dhd_dh dh + dr = res_r
@@ -574,6 +751,9 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
     rhs = np.empty((3, ncell))
     work_m = np.empty((n, 4))
     work_g = np.empty((n, 4))
+    wflux = np.empty(n + 1)
+    qsink = np.empty(n)
+    ra = np.empty(n)
     fwdef = par[P_FW]
     t = t0
     dt = par[P_INITDT]
@@ -607,7 +787,7 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
             fw3 = fwdef
         # stage 1 (explicit)
         r1 = _hdot_of_state(y, n, par, fw1)
-        _rhs(y, r1, n, par, ta1, ts1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True)
+        _rhs(y, r1, n, par, ta1, ts1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         # stage 2
         for i in range(ny):
             base[i] = y[i] + dt * _D * f1[i]
@@ -615,11 +795,12 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
         if not (y2[2 * n] > 0.5 * y[2 * n]):
             y2[2 * n] = y[2 * n]
         ok, r2 = _newton_stage(y2, base, _D * dt, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde,
-                               dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10)
+                               dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
+                               wflux, qsink, ra)
         nsteps_out[2] += 1
         if ok:
             r2 = _hdot_of_state(y2, n, par, fw2)
-            _rhs(y2, r2, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True)
+            _rhs(y2, r2, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
             for i in range(ny):
                 base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
                 y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
@@ -627,13 +808,13 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
                 y3[2 * n] = y2[2 * n]
             ok, r3 = _newton_stage(y3, base, _D * dt, n, par, ta3, ts3, fw3, f3, temp, phi, sbr,
                                    dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
-                                   col_r, 10)
+                                   col_r, 10, wflux, qsink, ra)
         if not ok:
             dt *= 0.25
             nsteps_out[1] += 1
             continue
         r3 = _hdot_of_state(y3, n, par, fw3)
-        _rhs(y3, r3, n, par, ta3, ts3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True)
+        _rhs(y3, r3, n, par, ta3, ts3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         for i in range(ny):
             err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
         en = _err_norm(err, y, n, par, 2 * n + 1)
@@ -684,12 +865,14 @@ def advance(ys, t0, t1, n, pars, ft, fa, fts, fq, status, counters):
 
 
 @njit(cache=True)
-def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hdot):
-    """Layer temperature, liquid fraction, brine and bulk salinity, conductivity; surface
-    temperature and basal velocity of every member at time t."""
+def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra, wbase):
+    """Layer temperature, liquid fraction, brine and bulk salinity, conductivity, Rayleigh
+    number; surface temperature, basal velocity and drained brine flux of every member at t."""
     nm = ys.shape[0]
     dtde = np.empty(n)
     dtdm = np.empty(n)
+    wflux = np.empty(n + 1)
+    qsink = np.empty(n)
     for mbr in range(nm):
         y = ys[mbr]
         par = pars[mbr]
@@ -706,3 +889,5 @@ def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hd
         _f, _d, ts = _surface(temp[mbr, 0], kc[mbr, 0], dz, ta, tsp, par)
         tsurf[mbr] = ts
         hdot[mbr] = _hdot_of_state(y, n, par, fw)
+        _drainage(y, n, par, temp[mbr], phi[mbr], sbr[mbr], wflux, qsink, ra[mbr])
+        wbase[mbr] = wflux[n]

@@ -248,10 +248,15 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     counters = np.zeros((nm, 3), np.int64)
     tmp = [np.empty((nm, n)) for _ in range(4)]
     tsv = np.empty(nm)
+    ra_now = np.empty((nm, n))
+    wb_now = np.empty(nm)
+    rayleigh = np.empty(shp)
 
     def record(it):
         state[:, it] = ys
-        K.diagnose(ys, n, pars, ft, fa, fts, fq, tsec[it], tmp[0], tmp[1], tmp[2], tmp[3], kc, tsv, hdot)
+        K.diagnose(ys, n, pars, ft, fa, fts, fq, tsec[it], tmp[0], tmp[1], tmp[2], tmp[3], kc, tsv, hdot,
+                   ra_now, wb_now)
+        rayleigh[:, it] = ra_now
         temp[:, it] = tmp[0]
         phi[:, it] = tmp[1]
         sbr[:, it] = tmp[2]
@@ -278,7 +283,8 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
                      brine_salinity=sbr, bulk_salinity=sal, surface_temperature=tsurf,
                      air_temperature_mean=air_mean, ocean_heat_flux_mean=fq_mean,
                      ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
-                     forcings=[m.forcing for m in members], counters=counters)
+                     forcings=[m.forcing for m in members], counters=counters,
+                     extra={"rayleigh_number": rayleigh})
 
 
 def run(forcing: xr.Dataset, config: Config | None = None, *, progress=None,

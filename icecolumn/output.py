@@ -63,7 +63,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     s_ent = b[..., K.B_S_ENTRAIN]
     s_melt = b[..., K.B_S_MELT]
     s_drain = b[..., K.B_S_DRAIN]
-    energy_input = e_surf + e_ocean + e_water
+    e_drain = b[..., K.B_E_DRAIN]
+    v_drain = b[..., K.B_V_DRAIN]
+    energy_input = e_surf + e_ocean + e_water + e_drain
+    rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
     salt_released = s_melt + s_drain
     frac = (np.arange(n) + 0.5) / n
     depth = h[..., None] * frac
@@ -120,7 +123,24 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                                                 "(reference liquid at 0 degC)"))
     v["energy_input"] = (dims_t, energy_input,
                          _attrs("J m-2", f"net energy that entered the column, {cum}",
-                                comment="sum of energy_input_surface, energy_input_ocean and energy_input_water"))
+                                comment="sum of energy_input_surface, energy_input_ocean, energy_input_water "
+                                        "and energy_input_drainage"))
+    v["energy_input_drainage"] = (dims_t, e_drain,
+                                  _attrs("J m-2", f"enthalpy carried by the drainage exchange (sea water in minus "
+                                                  f"brine out), {cum}"))
+    v["brine_flux"] = (dims_t, _interval_rate(v_drain, tsec),
+                       _attrs("m s-1", "volume flux of brine leaving the ice base by gravity drainage", None, cm))
+    v["brine_drained"] = (dims_t, v_drain, _attrs("m", f"volume of brine drained to the ocean per unit area, {cum}"))
+    fresh = rho * h - m.sum(-1)
+    v["freshwater_flux"] = (dims_t, -_interval_rate(fresh, tsec),
+                            _attrs("kg m-2 s-1", "net fresh water flux from the ice into the ocean", None, cm,
+                                   comment="minus the rate of change of the fresh-water mass of the ice, "
+                                           "rho_i h - salt_content (equal ice and brine densities): growth takes "
+                                           "fresh water from the ocean (negative), melt gives it back, and "
+                                           "drainage (brine out, sea water in) changes it by the salt exchanged. "
+                                           "No virtual salt flux is offered; salt_flux is the real salt flux."))
+    v["rayleigh_number"] = (dims_tl, raw.extra["rayleigh_number"],
+                            _attrs("1", "local mush Rayleigh number of the layer"))
     v["energy_input_surface"] = (dims_t, e_surf, _attrs("J m-2", f"heat conducted into the ice at its surface, {cum}"))
     v["energy_input_ocean"] = (dims_t, e_ocean, _attrs("J m-2", f"ocean heat flux into the ice base, {cum}"))
     v["energy_input_water"] = (dims_t, e_water,

@@ -1,0 +1,138 @@
+"""Reader for observed ice thickness (drill holes) in CSV.
+
+An observation file is UTF-8 CSV: optional leading comment lines starting with
+``#``, one header row, then one row per observation.
+
+=====================  =====  ==========================================
+column                 units  meaning
+=====================  =====  ==========================================
+``time`` (required)    ISO    ISO 8601; no offset = UTC
+``ice_thickness``      m      measured ice thickness (required)
+``snow_thickness``     m      measured snow thickness (optional)
+=====================  =====  ==========================================
+
+Other columns are ignored.  Every problem is an
+:class:`~icecolumn.errors.InputError` whose one-line message names the file and
+the physical line (1-based).
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from .errors import InputError
+from .timeutil import format_time, parse_times
+
+__all__ = ["read_observations"]
+
+_REQUIRED = ("time", "ice_thickness")
+_OPTIONAL = ("snow_thickness",)
+
+
+def read_observations(path: str | Path) -> xr.Dataset:
+    """Read observed ice (and snow) thickness from a CSV file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The CSV file. [1]
+
+    Returns
+    -------
+    obs : xarray.Dataset
+        Coordinate ``time`` (UTC, strictly increasing), ``ice_thickness`` [m],
+        ``snow_thickness`` [m] when the file has it, and ``line`` (the physical
+        line of each observation in the file, for messages).  Attribute
+        ``source_file`` is the path as given.
+
+    Raises
+    ------
+    InputError
+        ``"<file>: line <n>: <problem>"`` for anything wrong with the file.
+    """
+    name = str(path)
+    try:
+        raw = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{name}: file not found") from None
+    except IsADirectoryError:
+        raise InputError(f"{name}: is a directory, not an observation file") from None
+    except OSError as err:
+        raise InputError(f"{name}: cannot read: {err.strerror}") from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as err:
+        line = raw[: err.start].count(b"\n") + 1
+        raise InputError(f"{name}: line {line}: not UTF-8 text") from None
+
+    header: list[str] | None = None
+    header_no = 0
+    rows: list[tuple[int, list[str]]] = []
+    for no, line in enumerate(text.splitlines(), start=1):
+        stripped = line.strip()
+        if not stripped or stripped.startswith("#"):
+            continue
+        try:
+            cells = [c.strip() for c in next(csv.reader([line], strict=True))]
+        except csv.Error as err:
+            raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
+        if header is None:
+            header, header_no = cells, no
+            continue
+        if len(cells) != len(header):
+            raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
+                             f"(line {header_no}), found {len(cells)}")
+        rows.append((no, cells))
+    if header is None:
+        raise InputError(f"{name}: file is empty")
+    for col in _REQUIRED:
+        if col not in header:
+            found = ", ".join(repr(c) for c in header)
+            raise InputError(f"{name}: line {header_no}: no {col!r} column; columns found: {found}")
+    if not rows:
+        raise InputError(f"{name}: no observations after the header (line {header_no})")
+
+    lines = np.array([no for no, _ in rows], dtype=np.int64)
+    columns = {col: [cells[header.index(col)] for _, cells in rows]
+               for col in (*_REQUIRED, *_OPTIONAL) if col in header}
+    for col, texts in columns.items():
+        for i, t in enumerate(texts):
+            if not t:
+                raise InputError(f"{name}: line {lines[i]}: column {col!r} is empty")
+    times = parse_times(columns["time"], lambda i: f"line {lines[i]}: column 'time'", name)
+    data = {}
+    for col in ("ice_thickness", *_OPTIONAL):
+        if col not in columns:
+            continue
+        values = np.empty(len(rows))
+        for i, t in enumerate(columns[col]):
+            try:
+                v = float(t)
+            except ValueError:
+                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
+            if not math.isfinite(v):
+                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a finite number")
+            if v < 0:
+                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {v:g} m is negative")
+            values[i] = v
+        data[col] = values
+    steps = np.diff(times.astype("int64"))
+    bad = np.flatnonzero(steps <= 0)
+    if bad.size:
+        k = int(bad[0]) + 1
+        raise InputError(f"{name}: line {lines[k]}: time {format_time(times[k])} is not after "
+                         f"{format_time(times[k - 1])} on line {lines[k - 1]}; times must be strictly increasing")
+    attrs = {
+        "ice_thickness": {"units": "m", "long_name": "observed ice thickness", "standard_name": "sea_ice_thickness"},
+        "snow_thickness": {"units": "m", "long_name": "observed snow thickness",
+                           "standard_name": "surface_snow_thickness"},
+    }
+    variables = {col: ("time", values, attrs[col]) for col, values in data.items()}
+    variables["line"] = ("time", lines, {"long_name": "line of the observation in the file", "units": "1"})
+    return xr.Dataset(variables, coords={"time": ("time", times, {"standard_name": "time", "long_name": "time (UTC)"})},
+                      attrs={"source_file": name})

@@ -1,0 +1,371 @@
+"""Tests of icecolumn.forcing: the CSV reader, the array constructor, the invented sample."""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from icecolumn.errors import InputError
+from icecolumn.forcing import VARIABLES, forcing_from_arrays, read_forcing
+
+SAMPLE = Path(__file__).resolve().parent.parent / "forcing_samples" / "station_winter.csv"
+
+GOOD = """\
+# Test station (invented), hourly
+# second comment
+time,air_temperature,wind_speed,ocean_heat_flux
+2026-10-01T00:00,-5.0,3.1,2.0
+2026-10-01T01:00,-5.5,2.9,2.5
+2026-10-01T02:00,-6.25,,3.0
+"""
+
+
+def write(tmp_path: Path, text: str, name: str = "forcing.csv") -> Path:
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def error_of(path: Path, **kwargs) -> str:
+    with pytest.raises(InputError) as info:
+        read_forcing(path, **kwargs)
+    message = str(info.value)
+    assert "\n" not in message, message
+    assert message.startswith(f"{path}: "), message
+    return message
+
+
+def simple(rows: list[str], header: str = "time,air_temperature") -> str:
+    return "\n".join([header, *rows]) + "\n"
+
+
+# ---------------------------------------------------------------- good files
+
+
+def test_reads_good_file(tmp_path):
+    path = write(tmp_path, GOOD)
+    ds = read_forcing(path)
+    assert ds["time"].dtype == np.dtype("datetime64[ns]")
+    np.testing.assert_array_equal(
+        ds["time"].values, np.array(["2026-10-01T00:00", "2026-10-01T01:00", "2026-10-01T02:00"], "datetime64[ns]")
+    )
+    np.testing.assert_array_equal(ds["air_temperature"].values, [-5.0, -5.5, -6.25])
+    np.testing.assert_array_equal(ds["ocean_heat_flux"].values, [2.0, 2.5, 3.0])
+    assert ds["air_temperature"].dtype == np.float64
+    assert ds["air_temperature"].attrs["units"] == "degC"
+    assert ds["ocean_heat_flux"].attrs["units"] == "W m-2"
+    assert ds["air_temperature"].attrs["long_name"]
+    assert "surface_temperature" not in ds
+    # the ignored column may have empty cells: it is not read
+    assert "wind_speed" not in ds
+    assert ds.attrs["ignored_columns"] == "wind_speed"
+    assert ds.attrs["title"] == "Test station (invented), hourly"
+    assert ds.attrs["source_file"] == str(path)
+
+
+def test_sha256_of_file_bytes(tmp_path):
+    path = write(tmp_path, GOOD)
+    assert read_forcing(path).attrs["sha256"] == hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def test_path_given_as_text(tmp_path):
+    path = write(tmp_path, GOOD)
+    assert read_forcing(str(path)).attrs["source_file"] == str(path)
+
+
+def test_no_comment_gives_empty_title_and_crlf_and_blank_lines(tmp_path):
+    text = "time,air_temperature\r\n2026-10-01T00:00,-5\r\n\r\n2026-10-01T01:00,-6\r\n"
+    ds = read_forcing(write(tmp_path, text))
+    assert ds.attrs["title"] == ""
+    assert ds.attrs["ignored_columns"] == ""
+    np.testing.assert_array_equal(ds["air_temperature"].values, [-5.0, -6.0])
+
+
+def test_offset_conversion_can_make_a_duplicate(tmp_path):
+    # 00:00-01:00 is 01:00 UTC, the same instant as the row before
+    rows = ["2026-10-01T00:30Z,-5", "2026-10-01T01:00Z,-6", "2026-10-01T00:00-01:00,-7"]
+    path = write(tmp_path, simple(rows))
+    assert error_of(path) == f"{path}: line 4: duplicate time 2026-10-01T01:00:00Z (also on line 3)"
+
+
+def test_offsets_to_utc_strictly_increasing(tmp_path):
+    rows = ["2026-10-01T02:00+02:00,-5", "2026-10-01T01:00Z,-6", "2026-10-01T00:00-02:00,-7", "2026-10-01 03:00,-8"]
+    ds = read_forcing(write(tmp_path, simple(rows)))
+    expected = np.array(
+        ["2026-10-01T00:00", "2026-10-01T01:00", "2026-10-01T02:00", "2026-10-01T03:00"], "datetime64[ns]"
+    )
+    np.testing.assert_array_equal(ds["time"].values, expected)
+
+
+def test_column_map(tmp_path):
+    text = "Date,Tair_C,Tsfc\n2026-10-01T00:00,-5,-7\n2026-10-01T01:00,-6,-8\n"
+    path = write(tmp_path, text)
+    ds = read_forcing(path, column_map={"time": "Date", "air_temperature": "Tair_C", "surface_temperature": "Tsfc"})
+    np.testing.assert_array_equal(ds["air_temperature"].values, [-5.0, -6.0])
+    np.testing.assert_array_equal(ds["surface_temperature"].values, [-7.0, -8.0])
+    assert ds.attrs["ignored_columns"] == ""
+
+
+def test_column_map_replaces_canonical_column(tmp_path):
+    text = "time,air_temperature,Tair_qc\n2026-10-01T00:00,-5,-4\n2026-10-01T01:00,-6,-5\n"
+    ds = read_forcing(write(tmp_path, text), column_map={"air_temperature": "Tair_qc"})
+    np.testing.assert_array_equal(ds["air_temperature"].values, [-4.0, -5.0])
+    assert ds.attrs["ignored_columns"] == "air_temperature"
+
+
+def test_quoted_fields(tmp_path):
+    text = 'time,air_temperature,note\n2026-10-01T00:00,"-5","a, b"\n2026-10-01T01:00,-6,c\n'
+    ds = read_forcing(write(tmp_path, text))
+    np.testing.assert_array_equal(ds["air_temperature"].values, [-5.0, -6.0])
+
+
+# ---------------------------------------------------------------- errors
+
+
+def test_missing_file(tmp_path):
+    assert error_of(tmp_path / "none.csv") == f"{tmp_path / 'none.csv'}: file not found"
+
+
+def test_empty_file(tmp_path):
+    assert error_of(write(tmp_path, "")).endswith(": file is empty")
+
+
+def test_only_comments(tmp_path):
+    assert "no header row" in error_of(write(tmp_path, "# just a comment\n"))
+
+
+def test_header_only(tmp_path):
+    message = error_of(write(tmp_path, "# title\ntime,air_temperature\n"))
+    assert "no data rows" in message and "line 2" in message
+
+
+def test_single_row(tmp_path):
+    message = error_of(write(tmp_path, simple(["2026-10-01T00:00,-5"])))
+    assert "only 1 data row; at least 2 are needed" in message
+
+
+def test_no_air_temperature_column_lists_columns(tmp_path):
+    message = error_of(write(tmp_path, "# c\ntime,Tair\n2026-10-01T00:00,-5\n2026-10-01T01:00,-5\n"))
+    assert "line 2: no 'air_temperature' column; columns found: 'time', 'Tair'" in message
+
+
+def test_no_time_column(tmp_path):
+    message = error_of(write(tmp_path, "date,air_temperature\n2026-10-01T00:00,-5\n2026-10-01T01:00,-5\n"))
+    assert "line 1: no 'time' column; columns found: 'date', 'air_temperature'" in message
+
+
+def test_column_map_to_missing_column(tmp_path):
+    path = write(tmp_path, GOOD)
+    message = error_of(path, column_map={"air_temperature": "Tair_C"})
+    assert "line 3: column_map names column 'Tair_C' for 'air_temperature'" in message
+    assert "columns found: 'time', 'air_temperature', 'wind_speed', 'ocean_heat_flux'" in message
+
+
+def test_column_map_unknown_variable(tmp_path):
+    message = error_of(write(tmp_path, GOOD), column_map={"wind": "wind_speed"})
+    assert "column_map: unknown variable 'wind'" in message
+
+
+def test_column_map_same_column_twice(tmp_path):
+    message = error_of(write(tmp_path, GOOD), column_map={"surface_temperature": "air_temperature"})
+    assert "'air_temperature' is used for both" in message
+
+
+def test_non_numeric_value_names_physical_line(tmp_path):
+    rows = [f"2026-10-01T{h:02d}:00,-5" for h in range(10)]
+    rows[5] = "2026-10-01T05:00,abc"
+    # 2 comment lines + header: data row k (0-based) is on physical line 4 + k
+    text = "# a\n# b\n" + simple(rows)
+    path = write(tmp_path, text)
+    assert error_of(path) == f"{path}: line 9: column 'air_temperature': 'abc' is not a number"
+
+
+def test_bad_time_text(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-13-01T01:00,-5", "2026-10-01T02:00,-5"]))
+    message = error_of(path)
+    assert message.startswith(f"{path}: line 3: column 'time': '2026-13-01T01:00'")
+
+
+def test_garbage_time_text(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "01/10/2026 01:00,-5"]))
+    assert "line 3: column 'time': '01/10/2026 01:00' is not a time" in error_of(path)
+
+
+def test_times_not_increasing(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T02:00,-5", "2026-10-01T01:00,-5"]))
+    message = error_of(path)
+    assert "line 4: time 2026-10-01T01:00:00Z is not after 2026-10-01T02:00:00Z on line 3" in message
+
+
+def test_duplicate_time(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T01:00,-5", "2026-10-01T03:00+02:00,-5"]))
+    message = error_of(path)
+    assert "line 4: duplicate time 2026-10-01T01:00:00Z (also on line 3)" in message
+
+
+def test_empty_cell(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T01:00,", "2026-10-01T02:00,-5"]))
+    assert error_of(path) == f"{path}: line 3: column 'air_temperature' is empty"
+
+
+def test_empty_time_cell(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", " ,-5"]))
+    assert error_of(path) == f"{path}: line 3: column 'time' is empty"
+
+
+def test_wrong_number_of_fields(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T01:00,-5,7"]))
+    assert "line 3: expected 2 fields as in the header (line 1), found 3" in error_of(path)
+
+
+def test_kelvin_hint(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,268.1", "2026-10-01T01:00,268.0"]))
+    message = error_of(path)
+    assert message == (
+        f"{path}: line 2: column 'air_temperature': 268.1 degC is outside -90..50 degC (is the file in kelvin?)"
+    )
+
+
+def test_out_of_range_without_kelvin_hint(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T01:00,-99"]))
+    message = error_of(path)
+    assert "line 3: column 'air_temperature': -99 degC is outside -90..50 degC" in message
+    assert "kelvin" not in message
+
+
+def test_surface_temperature_range(tmp_path):
+    text = "time,air_temperature,surface_temperature\n2026-10-01T00:00,-5,-6\n2026-10-01T01:00,-5,60\n"
+    message = error_of(write(tmp_path, text))
+    assert "line 3: column 'surface_temperature': 60 degC is outside -90..50 degC" in message
+
+
+def test_ocean_heat_flux_range(tmp_path):
+    text = "time,air_temperature,ocean_heat_flux\n2026-10-01T00:00,-5,2\n2026-10-01T01:00,-5,-60\n"
+    message = error_of(write(tmp_path, text))
+    assert "line 3: column 'ocean_heat_flux': -60 W m-2 is outside -50..500 W m-2" in message
+
+
+def test_mapped_column_named_in_message(tmp_path):
+    text = "time,T\n2026-10-01T00:00,-5\n2026-10-01T01:00,x\n"
+    message = error_of(write(tmp_path, text), column_map={"air_temperature": "T"})
+    assert "line 3: column 'T': 'x' is not a number" in message
+
+
+@pytest.mark.parametrize("bad", ["nan", "inf", "-inf", "NaN", "1e999"])
+def test_non_finite(tmp_path, bad):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", f"2026-10-01T01:00,{bad}"]))
+    assert "line 3: column 'air_temperature':" in error_of(path)
+    assert "not a finite number" in error_of(path)
+
+
+def test_not_utf8(tmp_path):
+    path = tmp_path / "forcing.csv"
+    path.write_bytes(b"time,air_temperature\n2026-10-01T00:00,-5\n2026-10-01T01:00,-5\xff\n")
+    assert error_of(path) == f"{path}: line 3: not UTF-8 text"
+
+
+# ---------------------------------------------------------------- arrays
+
+
+def test_forcing_from_arrays_matches_reader(tmp_path):
+    ds_file = read_forcing(write(tmp_path, GOOD))
+    ds = forcing_from_arrays(
+        ["2026-10-01T00:00", "2026-10-01T01:00", "2026-10-01T02:00"],
+        [-5.0, -5.5, -6.25],
+        ocean_heat_flux=[2.0, 2.5, 3.0],
+    )
+    assert ds.attrs["source_file"] == "<arrays>"
+    assert set(ds.attrs) == set(ds_file.attrs)
+    np.testing.assert_array_equal(ds["time"].values, ds_file["time"].values)
+    for var in ("air_temperature", "ocean_heat_flux"):
+        np.testing.assert_array_equal(ds[var].values, ds_file[var].values)
+        assert ds[var].attrs == ds_file[var].attrs
+
+
+def test_forcing_from_arrays_datetime_inputs():
+    t64 = np.array(["2026-10-01T00", "2026-10-01T06"], dtype="datetime64[h]")
+    ds = forcing_from_arrays(t64, np.array([-10, -12]), surface_temperature=None)
+    assert ds["time"].dtype == np.dtype("datetime64[ns]")
+    assert "surface_temperature" not in ds
+    aware = [dt.datetime(2026, 10, 1, 2, tzinfo=dt.timezone(dt.timedelta(hours=2))),
+             dt.datetime(2026, 10, 1, 3, tzinfo=dt.timezone.utc)]
+    ds = forcing_from_arrays(aware, [-1.0, -2.0])
+    np.testing.assert_array_equal(
+        ds["time"].values, np.array(["2026-10-01T00:00", "2026-10-01T03:00"], "datetime64[ns]")
+    )
+
+
+def test_forcing_from_arrays_digest_depends_on_values():
+    a = forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, -6.0])
+    b = forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, -6.1])
+    assert len(a.attrs["sha256"]) == 64 and a.attrs["sha256"] != b.attrs["sha256"]
+
+
+@pytest.mark.parametrize(
+    "kwargs, fragment",
+    [
+        ({"time": ["2026-10-01T01:00", "2026-10-01T00:00"], "air_temperature": [-1, -2]},
+         "<arrays>: index 1: time 2026-10-01T00:00:00Z is not after"),
+        ({"time": ["2026-10-01T00:00", "2026-10-01T01:00"], "air_temperature": [-1, 300.0]},
+         "<arrays>: index 1: column 'air_temperature': 300 degC is outside -90..50 degC (is the file in kelvin?)"),
+        ({"time": ["2026-10-01T00:00", "2026-10-01T01:00"], "air_temperature": [-1, np.nan]},
+         "<arrays>: index 1: column 'air_temperature': nan is not a finite number"),
+        ({"time": ["2026-10-01T00:00", "bad"], "air_temperature": [-1, -2]}, "<arrays>: index 1: time: 'bad'"),
+        ({"time": ["2026-10-01T00:00"], "air_temperature": [-1]}, "<arrays>: only 1 data row"),
+        ({"time": ["2026-10-01T00:00", "2026-10-01T01:00"], "air_temperature": [-1]},
+         "<arrays>: air_temperature: expected 2 values"),
+        ({"time": ["2026-10-01T00:00", "2026-10-01T01:00"], "air_temperature": [-1, -2], "wind": [1, 2]},
+         "<arrays>: unknown variable 'wind'"),
+        ({"time": ["2026-10-01T00:00", "2026-10-01T01:00"], "air_temperature": ["a", "b"]},
+         "<arrays>: air_temperature: values are not numbers"),
+        ({"time": [1.0, 2.0], "air_temperature": [-1, -2]}, "<arrays>: time: expected datetime64"),
+    ],
+)
+def test_forcing_from_arrays_errors(kwargs, fragment):
+    with pytest.raises(InputError) as info:
+        forcing_from_arrays(**kwargs)
+    assert fragment in str(info.value) and "\n" not in str(info.value)
+
+
+def test_variables_table_consistent():
+    assert VARIABLES["air_temperature"]["required"]
+    for var, spec in VARIABLES.items():
+        assert spec["attrs"]["units"] in {"degC", "W m-2"}, var
+        lo, hi = spec["range"]
+        assert lo < hi
+
+
+# ---------------------------------------------------------------- the invented sample
+
+
+def test_sample_winter():
+    start = time.perf_counter()
+    ds = read_forcing(SAMPLE)
+    elapsed = time.perf_counter() - start
+    assert elapsed < 1.0  # performance requirement of the reader (our own target)
+    assert "INVENTED" in ds.attrs["title"]
+    t = ds["time"].values
+    # hourly, 2026-10-01T00 .. 2027-05-31T23 UTC (design of the invented sample)
+    assert t[0] == np.datetime64("2026-10-01T00:00", "ns")
+    assert t[-1] == np.datetime64("2027-05-31T23:00", "ns")
+    assert np.all(np.diff(t) == np.timedelta64(1, "h"))
+    temp = ds["air_temperature"].values
+    # freezing degree days: daily-mean air temperature below 0 degC, summed.
+    days = t.astype("datetime64[D]")
+    _, index = np.unique(days, return_inverse=True)
+    daily = np.bincount(index, weights=temp) / np.bincount(index)
+    fdd = np.sum(np.clip(0.0 - daily, 0.0, None))
+    # design target of the invented sample, not an outside source
+    assert 4500.0 <= fdd <= 5500.0
+    # design target of the invented sample, not an outside source
+    assert -45.0 <= temp.min() <= -35.0
+    # design target of the invented sample, not an outside source: no thaw
+    assert temp.max() < 0.0
+    # one decimal place, as written by scripts/make_samples.py
+    np.testing.assert_allclose(temp, np.round(temp, 1), atol=1e-9)
+    assert SAMPLE.stat().st_size < 200_000

@@ -1,0 +1,152 @@
+"""Fresh-water growth against the Neumann (one-phase Stefan) solution, and exact basal balances.
+
+Reference: one-phase Stefan problem, Carslaw & Jaeger (1959, Conduction of Heat in Solids,
+pp. 287-288; as quoted in Crank 1984, Free and Moving Boundary Problems, p. 103):
+h = 2 lambda sqrt(kappa t), lambda exp(lambda^2) erf(lambda) = St / sqrt(pi), St = c dT / L,
+kappa = k / (rho c).  With k = 2.2, rho = 917, c = 2100, L = 334000, dT = 10 K:
+lambda = 0.175491 and h(30 d) = 0.6040 m (PHYSICS.md section 10, derived; recomputed here).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.optimize import brentq
+from scipy.special import erf
+
+import icecolumn as ic
+from icecolumn import kernel as K
+from icecolumn.forcing import forcing_from_arrays
+
+K_ICE, RHO, C_ICE, LAT, DT = 2.2, 917.0, 2100.0, 334000.0, 10.0
+KAPPA = K_ICE / (RHO * C_ICE)
+DAY = 86400.0
+
+
+def neumann_lambda(stefan: float) -> float:
+    return brentq(lambda x: x * np.exp(x * x) * erf(x) - stefan / np.sqrt(np.pi), 1e-8, 3.0, xtol=1e-15)
+
+
+LAMBDA = neumann_lambda(C_ICE * DT / LAT)
+
+
+def neumann_thickness(days):
+    return 2.0 * LAMBDA * np.sqrt(KAPPA * np.asarray(days) * DAY)
+
+
+def fresh_config(ice_thickness: float, heat_flux: float = 0.0, **sections):
+    overrides = {
+        "ocean": {"salinity": 0.0, "heat_flux": heat_flux},
+        "initial": {"bulk_salinity": 0.0, "ice_thickness": ice_thickness},
+        "surface": {"scheme": "prescribed"},
+        "properties": {"conductivity_model": "constant", "ice_conductivity": K_ICE, "ice_density": RHO,
+                       "ice_specific_heat": C_ICE, "latent_heat": LAT},
+        "output": {"interval": "1D"},
+    }
+    for name, values in sections.items():
+        overrides.setdefault(name, {}).update(values)
+    return ic.load_config(None, overrides)
+
+
+def constant_forcing(days: int, surface_temperature: float, air_temperature: float | None = None):
+    start = np.datetime64("2026-01-01T00:00")
+    t = start + np.arange(days * 24 + 1) * np.timedelta64(1, "h")
+    air = surface_temperature if air_temperature is None else air_temperature
+    return forcing_from_arrays(t, np.full(t.size, air), surface_temperature=np.full(t.size, surface_temperature))
+
+
+STEFAN_FORCING = constant_forcing(29, -DT)  # day 1 -> day 30 after the Neumann origin
+
+
+def stefan_run(layers=None, rtol=None):
+    cfg = fresh_config(float(neumann_thickness(1.0)))
+    if layers is not None:
+        cfg = cfg.replace("grid", layers=layers)
+    if rtol is not None:
+        cfg = cfg.replace("solver", rtol=rtol)
+    return ic.run(STEFAN_FORCING, cfg)
+
+
+@pytest.fixture(scope="module")
+def default_run():
+    return stefan_run()
+
+
+def test_neumann_lambda():
+    # PHYSICS.md section 10 table (derived from Carslaw & Jaeger 1959): lambda = 0.175491, h(30 d) = 0.6040 m
+    assert LAMBDA == pytest.approx(0.175491, abs=1e-6)
+    assert float(neumann_thickness(30.0)) == pytest.approx(0.6040, abs=5e-5)
+
+
+def test_thickness_at_day_30(default_run):
+    h = default_run["ice_thickness"].values
+    assert default_run.sizes["time"] == 30
+    exact = float(neumann_thickness(30.0))
+    rel = h[-1] / exact - 1.0
+    print(f"\nStefan: h(30 d) = {h[-1]:.6f} m, exact {exact:.6f} m, rel. error {rel:+.2e} "
+          f"({ic.default_config().grid.layers} layers)")
+    assert abs(rel) <= 5e-3
+
+
+def test_growth_exponent(default_run):
+    h = default_run["ice_thickness"].values
+    days = np.arange(h.size) + 1.0  # time since the Neumann origin
+    n = np.polyfit(np.log(days[1:]), np.log(h[1:]), 1)[0]  # days 2..30
+    print(f"\nStefan: fitted exponent n = {n:.5f}")
+    assert abs(n / 0.5 - 1.0) <= 5e-3
+
+
+def test_uses_default_layer_count(default_run):
+    assert default_run.sizes["layer"] == ic.default_config().grid.layers
+
+
+def test_grid_and_tolerance_convergence(default_run):
+    n0 = ic.default_config().grid.layers
+    rtol0 = ic.default_config().solver.rtol
+    h_n = default_run["ice_thickness"].values[-1]
+    h_2n = stefan_run(layers=2 * n0)["ice_thickness"].values[-1]
+    h_4n = stefan_run(layers=4 * n0)["ice_thickness"].values[-1]
+    h_tight = stefan_run(rtol=rtol0 / 10)["ice_thickness"].values[-1]
+    d_grid = abs(h_2n / h_n - 1)
+    d_tol = abs(h_tight / h_n - 1)
+    p = np.log2(abs(h_n - h_2n) / abs(h_2n - h_4n))
+    exact = float(neumann_thickness(30.0))
+    print(f"\nStefan convergence: N={n0}: {h_n:.7f}, 2N: {h_2n:.7f}, 4N: {h_4n:.7f} (exact {exact:.7f}); "
+          f"grid change {d_grid:.2e}, rtol/10 change {d_tol:.2e}, observed order p = {p:.3f}")
+    assert d_grid < 5e-3
+    assert d_tol < 5e-3
+    assert p > 0.5
+    # errors shrink with refinement towards the exact solution
+    assert abs(h_4n - exact) < abs(h_n - exact)
+
+
+def test_steady_linear_profile_holds_thickness():
+    # basal balance: k dT / h = F_w -> h = 2.2 * 10 / 20 = 1.1 m stays put (exact steady state)
+    fw = 20.0
+    h0 = K_ICE * DT / fw
+    ds = ic.run(constant_forcing(60, -DT), fresh_config(h0, heat_flux=fw))
+    h = ds["ice_thickness"].values
+    assert h.size == 61
+    drift = np.max(np.abs(h / h0 - 1.0))
+    print(f"\nsteady profile: max |h/h0 - 1| over 60 days = {drift:.2e}")
+    assert drift <= 1e-4
+
+
+def test_isothermal_ice_melts_at_ocean_heat_flux_rate():
+    # isothermal fresh ice at 0 degC under a 0 degC surface: no conduction, so the base melts
+    # at F_w / (rho L).  The default initial profile cannot express solid ice at 0 degC
+    # (state_enthalpy(0, 0) gives liquid water, phi = 1), so the state vector is built
+    # here: enthalpy content -rho L dz per layer (solid at 0 degC), no salt, thickness h0.
+    fw, h0, days = 20.0, 0.5, 10
+    cfg = fresh_config(h0, heat_flux=fw)
+    n = cfg.grid.layers
+    y = np.zeros(K.state_size(n))
+    y[:n] = -RHO * LAT * h0 / n
+    y[2 * n] = h0
+    ds = ic.run(constant_forcing(days, 0.0), cfg, initial_state_vector=y)
+    assert float(ds["liquid_fraction"].isel(time=0).max()) == 0.0
+    dh = h0 - float(ds["ice_thickness"].values[-1])
+    expected = fw * days * DAY / (RHO * LAT)  # 0.056419 m
+    rel = dh / expected - 1.0
+    print(f"\nisothermal melt: dh = {dh:.6f} m, expected {expected:.6f} m, rel. error {rel:+.2e}")
+    assert abs(rel) <= 1e-3

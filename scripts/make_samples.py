@@ -151,6 +151,10 @@ def main() -> int:
         return 1
     write_csv(OUT, times, temp)
     print(f"wrote {OUT} ({OUT.stat().st_size / 1024:.0f} kB)")
+    # the installed package carries a byte-identical copy for `icecolumn demo`
+    packaged = OUT.parent.parent / "icecolumn" / "samples" / OUT.name
+    packaged.write_bytes(OUT.read_bytes())
+    print(f"wrote {packaged} (copy)")
     return 0
 
 

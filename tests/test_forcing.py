@@ -369,3 +369,13 @@ def test_sample_winter():
     # one decimal place, as written by scripts/make_samples.py
     np.testing.assert_allclose(temp, np.round(temp, 1), atol=1e-9)
     assert SAMPLE.stat().st_size < 200_000
+
+
+def test_packaged_sample_is_identical_to_forcing_samples():
+    """icecolumn/samples holds a byte-identical copy of the bundled sample (for installed demos)."""
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    a = (root / "forcing_samples" / "station_winter.csv").read_bytes()
+    b = (root / "icecolumn" / "samples" / "station_winter.csv").read_bytes()
+    assert a == b

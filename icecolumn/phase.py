@@ -313,3 +313,35 @@ def state_enthalpy(temperature, bulk_salinity, density=ICE_DENSITY, ice_specific
     phi = np.where((s <= 0) & (t < 0), 0.0, phi)
     phi = np.clip(phi, 0.0, 1.0)
     return enthalpy(t, phi, density, ice_specific_heat, brine_specific_heat, latent_heat), phi
+
+
+def brine_volume_fraction(liquid_fraction, brine_salinity, ice_density=ICE_DENSITY):
+    """True brine volume fraction from the model's liquid (mass) fraction (diagnostic only).
+
+    The model uses equal ice and brine densities, so its liquid fraction is a mass
+    fraction.  With real densities the brine volume fraction is
+
+    .. math:: v_b = \\frac{\\phi/\\rho_{br}}{\\phi/\\rho_{br} + (1-\\phi)/\\rho_i},
+       \\quad \\rho_{br} = 1000 + 0.8 S_{br}
+
+    (linear brine density, from memory; the slope agrees with TEOS-10, 0.81 kg m-3 per g/kg
+    near the freezing point).
+
+    Parameters
+    ----------
+    liquid_fraction : array_like
+        Model liquid fraction (mass fraction). [1]
+    brine_salinity : array_like
+        [g kg-1]
+    ice_density : float
+        Density of pure ice. [kg m-3]
+
+    Returns
+    -------
+    ndarray
+        Brine volume fraction. [1]
+    """
+    phi = np.asarray(liquid_fraction, dtype=float)
+    rho_br = 1000.0 + 0.8 * np.asarray(brine_salinity, dtype=float)
+    vb = phi / rho_br
+    return vb / (vb + (1.0 - phi) / ice_density)

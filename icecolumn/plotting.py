@@ -118,9 +118,9 @@ def check_output_dataset(
         raise InputError(f"{source}: missing variable(s) {', '.join(missing)}")
     if "depth_bounds" in ds.variables:
         db = ds["depth_bounds"]
-        if db.dims[-1:] != ("nv",) or db.shape[-1] != 2:
+        if "nv" not in db.dims or db.sizes["nv"] != 2:
             raise InputError(
-                f"{source}: depth_bounds must end with dimension nv of size 2, got {db.dims}"
+                f"{source}: depth_bounds must have a dimension nv of size 2, got {db.dims}"
             )
     return ds
 

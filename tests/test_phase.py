@@ -140,9 +140,14 @@ def test_rule_of_fives():
 def test_liquid_fraction_vs_frankenstein_garner(s, t_lo, t_hi, bound):
     # Frankenstein & Garner (1967, J. Glaciol. 6(48)), formula from memory.  The empirical
     # formula includes the effect of precipitated salts below about -8 degC, which a brine-only
-    # liquidus does not model; model phi is a mass (= volume, equal densities) fraction.
+    # liquidus does not model.  The model's phi is a mass fraction (equal densities in the
+    # prognostic equations); F&G give a true volume fraction, so convert with the real brine
+    # and ice densities first (phase.brine_volume_fraction).
+    from icecolumn.phase import brine_volume_fraction
+
     t = np.linspace(t_hi, t_lo, 81)
-    _, phi = state_enthalpy(t, s)
+    _, phi_mass = state_enthalpy(t, s)
+    phi = brine_volume_fraction(phi_mass, brine_salinity(t))
     rel = np.abs(phi / frankenstein_garner(s, t) - 1.0)
     assert rel.max() <= bound, (f"S = {s}: max |phi/v_b - 1| = {rel.max():.3f} at T = {t[rel.argmax()]:.2f} degC "
                                 f"(phi = {phi[rel.argmax()]:.5f}, v_b = {frankenstein_garner(s, t[rel.argmax()]):.5f})")

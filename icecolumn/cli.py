@@ -156,6 +156,9 @@ def _column_map(pairs: list[str] | None) -> dict[str, str]:
     return out
 
 
+from .brine import brine_budget, format_brine_budget  # noqa: E402
+
+
 def _time_text(t) -> str:
     return np.datetime_as_string(np.datetime64(t, "m"), unit="m") + "Z"
 
@@ -176,6 +179,10 @@ def _run_summary(ds, path: Path) -> str:
         f"salt released:  {float(ds['salt_released'].values[-1]):.3f} kg m-2",
         f"salt flux:      mean {flux_mean:.3g} kg m-2 s-1, maximum {flux_max:.3g} kg m-2 s-1",
         f"output:         {path}",
+        "",
+        "brine budget by month (kg m-2):",
+        format_brine_budget(brine_budget(ds, "month")),
+        "",
         icecolumn.CAUTION,
     ]
     return "\n".join(lines)

@@ -120,7 +120,7 @@ PARAMETERS: dict[str, Param] = {
     "ocean.salinity": Param(34.0, "g/kg", "ocean Absolute Salinity (TEOS-10)", "float", 0.0, 45.0),
     "ocean.heat_flux": Param(2.0, "W m-2", "ocean heat flux into the ice base, used when the forcing has none", "float", -50.0, 500.0),
     "surface.scheme": Param("linear", "", "surface boundary: linear air-to-surface transfer, or surface temperature from the forcing", "choice", choices=SURFACE_SCHEMES),
-    "surface.heat_transfer_coefficient": Param(15.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient", "float", 0.0, None, True),
+    "surface.heat_transfer_coefficient": Param(10.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient (10-30 typical, Ashton in Britannica)", "float", 0.0, None, True),
     "properties.conductivity_model": Param("parallel_yen1991", "", "bulk thermal conductivity of sea ice", "choice", choices=CONDUCTIVITY_MODELS),
     "properties.ice_conductivity": Param(2.03, "W m-1 K-1", "pure-ice conductivity (conductivity_model = constant)", "float", 0.0, None, True),
     "properties.ice_density": Param(917.0, "kg m-3", "density of pure ice", "float", 0.0, None, True),

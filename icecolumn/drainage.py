@@ -20,8 +20,10 @@ brine leaves layer ``k`` through channels straight to the ocean at a volume flux
 below (``W_j = sum_{k<j} q_k``), entering the base as sea water at ``S_w`` and its
 freezing temperature.  The salt and enthalpy fluxes through interfaces are upwind
 (the layer below supplies the brine), so a layer's salt tendency is
-``W_{k+1} (c_{k+1} - c_k)`` with ``c = rho S_br / 1000``: it can only relax toward
-the fresher brine below, and no layer goes negative without clipping.  Net salt to the
+``W_{k+1} (c_{k+1} - c_k)`` with ``c = rho S_br / 1000``: it relaxes toward the brine
+of the layer below (fresher in growing ice, where the layer below is warmer), and no
+layer goes negative without clipping.  (Under a temperature inversion the brine below is
+saltier, and a layer's bulk salinity can then exceed the ocean's.)  Net salt to the
 ocean is brine out minus sea water in (``salt_released_drainage``).
 
 Schemes (``[drainage] scheme``):

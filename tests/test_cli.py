@@ -289,7 +289,10 @@ def test_laws_on_run_includes_model_and_surface_coefficient(run_file):
     assert result.exit_code == 0, result.output
     header = [line for line in result.stdout.splitlines() if line.startswith("time")][0].split()
     assert "model" in header and "ratio_stefan" in header
-    assert "H = 15 W m-2 K-1" in result.stdout
+    from icecolumn.config import default_config
+
+    h_tr = default_config().surface.heat_transfer_coefficient  # the run used the default
+    assert f"H = {h_tr:g} W m-2 K-1" in result.stdout
     with xr.open_dataset(run_file) as ds:
         h0 = float(ds["ice_thickness"].values[0])
     assert f"# initial thickness: {h0:g} m" in result.stdout

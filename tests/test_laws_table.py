@@ -216,3 +216,18 @@ def test_fit_observations_noisy():
     assert res["corr"] < 0  # a and b trade off against each other
     assert abs(res["b"] - 0.55) < 4 * res["sigma_b"]
     assert 0.015 < res["rmse"] < 0.05
+
+
+def test_sample_winter_model_within_25_percent_of_empirical_laws(sample_forcing, sample_run):
+    """Acceptance: end-of-winter model thickness within +-25 % of the mean of Lebedev (1938),
+    Anderson (1961) and Zubov (1945), each at its own base temperature and started from the
+    run's initial thickness (formulas as implemented in growth_laws, sources there)."""
+    h = sample_run["ice_thickness"].values
+    table = laws_table(sample_forcing["time"].values, sample_forcing["air_temperature"].values,
+                       initial_thickness=float(h[0]), model_time=sample_run["time"].values,
+                       model_thickness=h)
+    ends = {law: float(table[law].values[-1]) for law in ("lebedev", "anderson", "zubov")}
+    mean = np.mean(list(ends.values()))
+    ratios = {law: h[-1] / v for law, v in ends.items()}
+    print(f"model {h[-1]:.3f} m; laws {ends}; ratio to mean {h[-1] / mean:.3f}; ratios {ratios}")
+    assert 0.75 <= h[-1] / mean <= 1.25

@@ -436,8 +436,13 @@ def plot_command(
     profiles: Annotated[Optional[str], typer.Option("--profiles", metavar="DATE,DATE",
                                                     help="Dates of the profile figure, comma-separated.")]
     = None,
+    thermistor: Annotated[Optional[Path], typer.Option("--thermistor", help="Thermistor CSV (time, depth, "
+                                                       "temperature) drawn as points on the sections.")] = None,
+    core: Annotated[Optional[Path], typer.Option("--core", help="Ice-core CSV (time, depth_top, depth_bottom, "
+                                                 "salinity) drawn as points on the sections.")] = None,
 ) -> None:
     """Draw the thickness, section, salt and profile figures of a run."""
+    from .observations import read_profile_points
     from .plotting import open_output, plot_run
 
     ds = open_output(output_file)
@@ -454,7 +459,9 @@ def plot_command(
         if not dates:
             raise InputError("--profiles: no dates given (e.g. --profiles 2027-01-15,2027-03-01)")
     folder = outdir if outdir is not None else (output_file.parent if str(output_file.parent) else Path("."))
-    files = plot_run(ds, folder, fmt=fmt, laws=table, obs=obs, profiles=dates)
+    points_t = read_profile_points(thermistor, "thermistor") if thermistor is not None else None
+    points_c = read_profile_points(core, "core") if core is not None else None
+    files = plot_run(ds, folder, fmt=fmt, laws=table, obs=obs, profiles=dates, thermistor=points_t, core=points_c)
     typer.echo("figures written:")
     for p in files:
         typer.echo(f"  {p}")

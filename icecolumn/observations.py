@@ -136,3 +136,66 @@ def read_observations(path: str | Path) -> xr.Dataset:
     variables["line"] = ("time", lines, {"long_name": "line of the observation in the file", "units": "1"})
     return xr.Dataset(variables, coords={"time": ("time", times, {"standard_name": "time", "long_name": "time (UTC)"})},
                       attrs={"source_file": name})
+
+
+def read_profile_points(path: str | Path, kind: str) -> dict:
+    """Read thermistor temperatures or ice-core salinities for plotting as points.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        CSV file. ``kind="thermistor"``: columns ``time``, ``depth`` [m below the ice
+        surface], ``temperature`` [degC]. ``kind="core"``: ``time``, ``depth_top``,
+        ``depth_bottom`` [m], ``salinity`` [g kg-1] (drawn at the section mid-depth).
+    kind : str
+        ``"thermistor"`` or ``"core"``.
+
+    Returns
+    -------
+    dict
+        ``time`` (datetime64[ns]), ``depth`` [m] and ``temperature`` or ``salinity``.
+    """
+    need = {"thermistor": ("time", "depth", "temperature"),
+            "core": ("time", "depth_top", "depth_bottom", "salinity")}[kind]
+    name = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8-sig")
+    except FileNotFoundError:
+        raise InputError(f"{name}: file not found") from None
+    except (OSError, UnicodeDecodeError) as err:
+        raise InputError(f"{name}: cannot read: {err}") from None
+    lines = [(no, ln) for no, ln in enumerate(text.splitlines(), start=1)
+             if ln.strip() and not ln.lstrip().startswith("#")]
+    if not lines:
+        raise InputError(f"{name}: empty file (expected columns {', '.join(need)})")
+    header = [c.strip() for c in next(csv.reader([lines[0][1]]))]
+    missing = [c for c in need if c not in header]
+    if missing:
+        raise InputError(f"{name}: line {lines[0][0]}: missing column(s) {', '.join(missing)} "
+                         f"(found {', '.join(header)})")
+    idx = {c: header.index(c) for c in need}
+    times, cols = [], {c: [] for c in need[1:]}
+    for no, ln in lines[1:]:
+        cells = next(csv.reader([ln]))
+        if len(cells) != len(header):
+            raise InputError(f"{name}: line {no}: expected {len(header)} fields, found {len(cells)}")
+        times.append((no, cells[idx["time"]].strip()))
+        for c in need[1:]:
+            try:
+                v = float(cells[idx[c]])
+            except ValueError:
+                raise InputError(f"{name}: line {no}: column {c!r}: {cells[idx[c]].strip()!r} is not a number") from None
+            if not math.isfinite(v):
+                raise InputError(f"{name}: line {no}: column {c!r}: value is not finite")
+            cols[c].append(v)
+    if not times:
+        raise InputError(f"{name}: no data rows")
+    t = parse_times([s for _, s in times], label=lambda i: f"line {times[i][0]}: column 'time'", source=name)
+    out = {"time": np.asarray(t, dtype="datetime64[ns]")}
+    if kind == "thermistor":
+        out["depth"] = np.asarray(cols["depth"])
+        out["temperature"] = np.asarray(cols["temperature"])
+    else:
+        out["depth"] = 0.5 * (np.asarray(cols["depth_top"]) + np.asarray(cols["depth_bottom"]))
+        out["salinity"] = np.asarray(cols["salinity"])
+    return out

@@ -30,6 +30,7 @@ except ModuleNotFoundError:  # Python < 3.11
     import tomli as tomllib  # type: ignore[no-redef]
 
 from .errors import InputError
+from .textfile import read_user_text
 from .timeutil import parse_duration, parse_time
 
 __all__ = [
@@ -515,19 +516,7 @@ def load_config(path: str | Path | None = None, overrides: dict[str, dict[str, A
     layers: list[tuple[str, Any]] = []
     if path is not None:
         name = str(path)
-        try:
-            raw = Path(path).read_bytes()
-        except FileNotFoundError:
-            raise InputError(f"{name}: file not found") from None
-        except IsADirectoryError:
-            raise InputError(f"{name}: is a directory, not a configuration file") from None
-        except OSError as err:
-            raise InputError(f"{name}: cannot read: {err.strerror}") from None
-        try:
-            text = raw.decode("utf-8-sig")
-        except UnicodeDecodeError as err:
-            line = raw[: err.start].count(b"\n") + 1
-            raise InputError(f"{name}: line {line}: not UTF-8 text") from None
+        text, raw = read_user_text(path, "configuration file")
         layers.append((name, _parse_toml(text, name)))
     layers.append(("override", overrides))
     return _build(default_config().to_dict(), layers)

@@ -34,6 +34,7 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
+from .textfile import read_user_text
 from .timeutil import format_time, parse_times
 
 __all__ = ["VARIABLES", "read_forcing", "forcing_from_arrays"]
@@ -94,19 +95,7 @@ def read_forcing(path: str | Path, column_map: Mapping[str, str] | None = None) 
         ``"<file>: line <n>: <problem>"`` for anything wrong with the file.
     """
     name = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{name}: file not found") from None
-    except IsADirectoryError:
-        raise InputError(f"{name}: is a directory, not a forcing file") from None
-    except OSError as err:
-        raise InputError(f"{name}: cannot read: {err.strerror}") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as err:
-        line = raw[: err.start].count(b"\n") + 1
-        raise InputError(f"{name}: line {line}: not UTF-8 text") from None
+    text, raw = read_user_text(path, "forcing file")
 
     lines = text.split("\n")
     comments: list[str] = []

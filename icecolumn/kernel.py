@@ -459,6 +459,15 @@ def _dr_column(y, r, n, par, col):
 
 
 @njit(cache=True)
+def _brine_content_derivatives(phi, temp, dtde, dtdm, dz, cw):
+    """d(rho S_br / 1000)/d(e, m) of one layer: through the liquidus in mush, S_br = S if liquid."""
+    if phi >= 1.0:
+        return 0.0, 1.0 / dz
+    g = cw * brine_salinity_derivative_scalar(temp)
+    return g * dtde, g * dtdm
+
+
+@njit(cache=True)
 def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux):
     """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m]).
 
@@ -518,26 +527,14 @@ def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr,
             if wj <= 0.0:
                 continue
             # d c / d(e, m) of layer j and of the layer below
-            if phi[j] >= 1.0:
-                cse = 0.0
-                csm = 1.0 / dz
-            else:
-                g = cw * brine_salinity_derivative_scalar(temp[j])
-                cse = g * dtde[j]
-                csm = g * dtdm[j]
+            cse, csm = _brine_content_derivatives(phi[j], temp[j], dtde[j], dtdm[j], dz, cw)
             di[j, 2] -= wj * cse
             di[j, 3] -= wj * csm
             di[j, 0] -= wj * rcl * dtde[j]
             di[j, 1] -= wj * rcl * dtdm[j]
             if j + 1 < n:
                 jb = j + 1
-                if phi[jb] >= 1.0:
-                    bse = 0.0
-                    bsm = 1.0 / dz
-                else:
-                    g = cw * brine_salinity_derivative_scalar(temp[jb])
-                    bse = g * dtde[jb]
-                    bsm = g * dtdm[jb]
+                bse, bsm = _brine_content_derivatives(phi[jb], temp[jb], dtde[jb], dtdm[jb], dz, cw)
                 up[j, 2] += wj * bse
                 up[j, 3] += wj * bsm
                 up[j, 0] += wj * rcl * dtde[jb]

@@ -26,6 +26,7 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
+from .textfile import read_user_text
 from .timeutil import format_time, parse_times
 
 __all__ = ["read_observations"]
@@ -56,19 +57,7 @@ def read_observations(path: str | Path) -> xr.Dataset:
         ``"<file>: line <n>: <problem>"`` for anything wrong with the file.
     """
     name = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{name}: file not found") from None
-    except IsADirectoryError:
-        raise InputError(f"{name}: is a directory, not an observation file") from None
-    except OSError as err:
-        raise InputError(f"{name}: cannot read: {err.strerror}") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as err:
-        line = raw[: err.start].count(b"\n") + 1
-        raise InputError(f"{name}: line {line}: not UTF-8 text") from None
+    text, raw = read_user_text(path, "observation file")
 
     header: list[str] | None = None
     header_no = 0
@@ -158,12 +147,7 @@ def read_profile_points(path: str | Path, kind: str) -> dict:
     need = {"thermistor": ("time", "depth", "temperature"),
             "core": ("time", "depth_top", "depth_bottom", "salinity")}[kind]
     name = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError(f"{name}: file not found") from None
-    except (OSError, UnicodeDecodeError) as err:
-        raise InputError(f"{name}: cannot read: {err}") from None
+    text, _ = read_user_text(path, f"{kind} file")
     lines = [(no, ln) for no, ln in enumerate(text.splitlines(), start=1)
              if ln.strip() and not ln.lstrip().startswith("#")]
     if not lines:

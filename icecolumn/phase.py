@@ -308,7 +308,7 @@ def state_enthalpy(temperature, bulk_salinity, density=ICE_DENSITY, ice_specific
     t = np.asarray(temperature, dtype=float)
     s = np.asarray(bulk_salinity, dtype=float)
     sbr = brine_salinity(t)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         phi = np.where(sbr > 0, s / np.where(sbr > 0, sbr, 1.0), 1.0)
     phi = np.where((s <= 0) & (t < 0), 0.0, phi)
     phi = np.clip(phi, 0.0, 1.0)

@@ -638,8 +638,12 @@ def _err_norm(vec, y, n, par, ny):
 
 @njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc,
-                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra):
-    """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r)."""
+                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc):
+    """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r).
+
+    ``sc`` (9, n + 1) is scratch space for the perturbed evaluation of the thickness column,
+    so the intensive state at ``y`` computed at the start of the iteration stays valid.
+    """
     ncell = 2 * n
     r = _hdot_of_state(y, n, par, fw)
     prev = 1e300
@@ -659,7 +663,8 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         for i in range(2 * n + 1 + NBUDGET):
             ytmp[i] = y[i]
         ytmp[2 * n] = h + dh
-        _rhs(ytmp, r, n, par, ta, tsp, fw, ftmp, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _rhs(ytmp, r, n, par, ta, tsp, fw, ftmp, sc[0, :n], sc[1, :n], sc[2, :n], sc[3, :n], sc[4, :n],
+             sc[5, :n], True, sc[6, :], sc[7, :n], sc[8, :n])
         for i in range(ncell):
             rhs[1, i] = -a_dt * (ftmp[i] - f[i]) / dh  # B column (h)
         # border row for r: d hdot / d (e_b, m_b, h)
@@ -674,8 +679,6 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         ytmp[2 * n - 1] = y[2 * n - 1]
         ytmp[2 * n] = h + dh
         dhd_dh = (_hdot_of_state(ytmp, n, par, fw) - hd) / dh
-        # restore intensive state at y (ytmp evaluation overwrote it)
-        _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         _dr_column(y, r, n, par, col_r)
         for i in range(ncell):
             rhs[2, i] = -a_dt * col_r[i]  # B column (r)
@@ -751,6 +754,7 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
     wflux = np.empty(n + 1)
     qsink = np.empty(n)
     ra = np.empty(n)
+    sc = np.empty((9, n + 1))
     fwdef = par[P_FW]
     t = t0
     dt = par[P_INITDT]
@@ -793,7 +797,7 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
             y2[2 * n] = y[2 * n]
         ok, r2 = _newton_stage(y2, base, _D * dt, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde,
                                dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
-                               wflux, qsink, ra)
+                               wflux, qsink, ra, sc)
         nsteps_out[2] += 1
         if ok:
             r2 = _hdot_of_state(y2, n, par, fw2)
@@ -805,7 +809,7 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
                 y3[2 * n] = y2[2 * n]
             ok, r3 = _newton_stage(y3, base, _D * dt, n, par, ta3, ts3, fw3, f3, temp, phi, sbr,
                                    dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
-                                   col_r, 10, wflux, qsink, ra)
+                                   col_r, 10, wflux, qsink, ra, sc)
         if not ok:
             dt *= 0.25
             nsteps_out[1] += 1

@@ -111,14 +111,32 @@ def initial_state(cfg: Config, surface_temperature: float, profile: InitialProfi
             temp = np.minimum(temp, tf)
         if profile.salinity is not None:
             sal = np.interp(z, profile.salinity_depth, profile.salinity)
+    return state_from_profile(cfg, h, temp, sal)
+
+
+def state_from_profile(cfg: Config, thickness: float, temperature, bulk_salinity) -> np.ndarray:
+    """State vector (layer contents, thickness, zero budgets) of ice in phase equilibrium.
+
+    Parameters
+    ----------
+    cfg : Config
+        Supplies the material properties.
+    thickness : float
+        Ice thickness. [m]
+    temperature, bulk_salinity : array_like, one value per layer (top first)
+        [degC], [g kg-1]
+    """
+    temperature = np.asarray(temperature, dtype=float)
+    bulk_salinity = np.asarray(bulk_salinity, dtype=float)
+    n = temperature.size
     pr = cfg.properties
-    hv, _ = state_enthalpy(temp, sal, pr.ice_density, pr.ice_specific_heat, pr.brine_specific_heat,
-                           pr.latent_heat)
-    dz = h / n
+    hv, _ = state_enthalpy(temperature, bulk_salinity, pr.ice_density, pr.ice_specific_heat,
+                           pr.brine_specific_heat, pr.latent_heat)
+    dz = thickness / n
     y = np.zeros(K.state_size(n))
     y[:n] = hv * dz
-    y[n:2 * n] = pr.ice_density * sal / 1000.0 * dz
-    y[2 * n] = h
+    y[n:2 * n] = pr.ice_density * bulk_salinity / 1000.0 * dz
+    y[2 * n] = thickness
     return y
 
 

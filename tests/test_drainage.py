@@ -12,7 +12,7 @@ import icecolumn as ic
 from icecolumn import kernel as K
 from icecolumn import drainage as D
 from icecolumn.forcing import forcing_from_arrays
-from icecolumn.model import parameter_vector
+from icecolumn.model import parameter_vector, state_from_profile
 from icecolumn.phase import brine_salinity, invert_enthalpy, liquidus_temperature_scalar, state_enthalpy
 
 SAMPLE = Path(__file__).resolve().parent.parent / "forcing_samples" / "station_winter.csv"
@@ -294,13 +294,7 @@ def test_positivity_one_step(state):
     cfg = ic.default_config()
     pr = cfg.properties
     n = N_LAYERS
-    hv, _ = state_enthalpy(temps, sal, pr.ice_density, pr.ice_specific_heat, pr.brine_specific_heat,
-                           pr.latent_heat)
-    dz = h / n
-    y = np.zeros(K.state_size(n))
-    y[:n] = hv * dz
-    y[n:2 * n] = pr.ice_density * sal / 1000.0 * dz
-    y[2 * n] = h
+    y = state_from_profile(cfg, h, temps, sal)
     ys = y[None, :].copy()
     pars = np.ascontiguousarray(parameter_vector(cfg)[None, :])
     ft = np.array([0.0, 7200.0])

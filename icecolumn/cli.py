@@ -9,6 +9,7 @@ line with exit code 1.  ``--debug`` shows the full traceback instead.
 
 from __future__ import annotations
 
+import importlib
 import importlib.resources
 import sys
 from pathlib import Path
@@ -484,6 +485,13 @@ def config_command(
         raise InputError("config: --defaults cannot be combined with --config or --set")
     cfg = icecolumn.load_config(config, _overrides(assignments))
     typer.echo(cfg.to_toml(), nl=False)
+
+
+# Commands that live in their own modules register themselves on ``app``: each module
+# ``icecolumn/cli_<name>.py`` has ``register(app)``.  Add a module name here to enable it.
+_COMMAND_MODULES: tuple[str, ...] = ()
+for _name in _COMMAND_MODULES:
+    importlib.import_module(f"icecolumn.cli_{_name}").register(app)
 
 
 def main(argv: list[str] | None = None) -> int:

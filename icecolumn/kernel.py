@@ -80,7 +80,8 @@ import numpy as np
 from numba import njit
 
 from .constants import GRAVITY
-from .phase import brine_salinity_derivative_scalar, invert_enthalpy_scalar, liquidus_temperature_scalar
+from .phase import brine_salinity_derivative_scalar, invert_enthalpy_guess_scalar, invert_enthalpy_scalar, \
+    liquidus_temperature_scalar
 from .properties import conductivity_scalar
 
 # ---------------------------------------------------------------------------------------
@@ -184,7 +185,8 @@ def _cells(y, n, par, temp, phi, sbr, dtde, dtdm, kc):
     for k in range(n):
         hv = y[k] / dz
         s = 1000.0 * y[n + k] / (rho * dz)
-        t, p, b, dth, dts = invert_enthalpy_scalar(hv, s, rho, cs, cl, lat)
+        # the layer's previous temperature (NaN at the start of an output interval) is the guess
+        t, p, b, dth, dts = invert_enthalpy_guess_scalar(hv, s, rho, cs, cl, lat, temp[k])
         temp[k] = t
         phi[k] = p
         sbr[k] = b
@@ -755,6 +757,8 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
     qsink = np.empty(n)
     ra = np.empty(n)
     sc = np.empty((9, n + 1))
+    temp[:] = np.nan  # no first guess for the enthalpy inversion: restart-safe
+    sc[0, :] = np.nan
     fwdef = par[P_FW]
     t = t0
     dt = par[P_INITDT]
@@ -877,6 +881,7 @@ def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hd
     for mbr in range(nm):
         y = ys[mbr]
         par = pars[mbr]
+        temp[mbr, :] = np.nan  # diagnostics never depend on earlier calls
         _cells(y, n, par, temp[mbr], phi[mbr], sbr[mbr], dtde, dtdm, kc[mbr])
         h = y[2 * n]
         dz = h / n

@@ -126,6 +126,19 @@ def _mush_enthalpy(t, s, rho, c_s, c_l, latent):
 def invert_enthalpy_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
     """Temperature, liquid fraction and brine salinity from enthalpy and bulk salinity.
 
+    Same as :func:`invert_enthalpy_guess_scalar` without a first guess; see there.
+    """
+    return invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent, np.nan)
+
+
+@njit(cache=True)
+def invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent, guess):
+    """Temperature, liquid fraction and brine salinity from enthalpy and bulk salinity.
+
+    ``guess`` [degC] is a first estimate of the temperature of a mushy cell (NaN: none).
+    It only changes how fast the iteration converges, not the root it converges to
+    (the residual tolerance is 1e-14 rho L).
+
     Parameters
     ----------
     enthalpy : float
@@ -159,16 +172,22 @@ def invert_enthalpy_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
     # mush: g(T) = H_mush(T, S) - h is increasing in T; root below t_hi
     t_fresh = (h / rho + latent) / c_s  # the root is never warmer than fresh ice of equal H
     t_hi = t_liq if t_liq < t_fresh else t_fresh
-    t_lo = t_hi - 1.0
-    for _ in range(60):
-        g_lo, _, _ = _mush_enthalpy(t_lo, s, rho, c_s, c_l, latent)
-        if g_lo <= h:
-            break
-        t_lo = t_hi - 2.0 * (t_hi - t_lo)
-    # Newton from the cold end of a shrinking bracket, bisection fall-back
-    t = t_hi - 1e-9 * (1.0 + abs(t_hi))
-    if t <= t_lo:
-        t = 0.5 * (t_lo + t_hi)
+    if guess < t_hi and guess > t_hi - 200.0:
+        # warm start: the lower end of the bracket is found by the iteration itself
+        # (a residual <= 0 sets it); Newton steps from above move down and are accepted
+        t_lo = -1e300
+        t = guess
+    else:
+        t_lo = t_hi - 1.0
+        for _ in range(60):
+            g_lo, _, _ = _mush_enthalpy(t_lo, s, rho, c_s, c_l, latent)
+            if g_lo <= h:
+                break
+            t_lo = t_hi - 2.0 * (t_hi - t_lo)
+        # Newton from the warm end of the bracket, bisection fall-back
+        t = t_hi - 1e-9 * (1.0 + abs(t_hi))
+        if t <= t_lo:
+            t = 0.5 * (t_lo + t_hi)
     scale = rho * latent
     dh_dt = 1.0
     dh_ds = 0.0
@@ -183,7 +202,10 @@ def invert_enthalpy_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
             break
         t_new = t - r / dh_dt
         if not (t_lo < t_new < t_hi):
-            t_new = 0.5 * (t_lo + t_hi)
+            if t_lo > -1e299:
+                t_new = 0.5 * (t_lo + t_hi)
+            else:  # no lower bound yet: step down from the upper bound
+                t_new = t_hi - 2.0 * (t_hi - t) - 1.0
         if abs(t_new - t) <= 1e-15 * (1.0 + abs(t)):
             t = t_new
             g, dh_dt, dh_ds = _mush_enthalpy(t, s, rho, c_s, c_l, latent)

@@ -318,6 +318,9 @@ def run_command(
     columns: Annotated[Optional[list[str]], typer.Option("--column", metavar="OURS=THEIRS",
                                                          help="Read our variable from another column "
                                                               "(repeatable).")] = None,
+    restart_from: Annotated[Optional[Path], typer.Option("--restart-from", metavar="PREVIOUS.nc",
+                                                         help="Continue from the last state of a previous "
+                                                              "output (same configuration).")] = None,
 ) -> None:
     """Run the column model on a forcing file and write a NetCDF file."""
     out = output if output is not None else Path(f"{forcing.stem}.nc")
@@ -329,9 +332,23 @@ def run_command(
         raise InputError(f"{out}: folder {out.parent} does not exist")
     cfg = icecolumn.load_config(config, _overrides(assignments))
     data = icecolumn.read_forcing(forcing, _column_map(columns))
+    previous = None
+    if restart_from is not None:
+        from .plotting import open_output
+        from .model import restart_state
+
+        if restart_from.resolve() == out.resolve():
+            raise InputError(f"{restart_from}: the restart file cannot also be the output file")
+        previous = open_output(restart_from)
+        restart_state(previous, cfg, str(restart_from))  # check before running
     bar = ProgressBar()
     try:
-        ds = icecolumn.run(data, cfg, progress=bar)
+        if previous is None:
+            ds = icecolumn.run(data, cfg, progress=bar)
+        else:
+            from .model import run_restart
+
+            ds = run_restart(data, cfg, previous, progress=bar, source=str(restart_from))
     finally:
         bar.close()
     icecolumn.write_netcdf(ds, out, overwrite=overwrite)

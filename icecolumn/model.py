@@ -192,20 +192,29 @@ def _interval_mean(ft, fv, t):
     return out
 
 
+#: Origin of the kernel's time axis.  A fixed epoch (not the run start) makes a run that
+#: restarts from an output time see exactly the same floating-point times as the run done
+#: in one go, so a restarted run is bitwise identical.
+TIME_EPOCH = np.datetime64("1970-01-01T00:00:00", "ns")
+
+
+def _seconds(times) -> np.ndarray:
+    """Seconds since :data:`TIME_EPOCH` as float64."""
+    return ((np.asarray(times).astype("datetime64[ns]") - TIME_EPOCH) / np.timedelta64(1, "s")).astype(float)
+
+
 def _forcing_arrays(members: Sequence[Member], start: np.datetime64):
-    """Common forcing time axis (seconds since start) and per-member value arrays."""
+    """Common forcing time axis (seconds since the epoch) and per-member value arrays."""
     axes = [m.forcing["time"].values.astype("datetime64[ns]") for m in members]
     same = all(a.shape == axes[0].shape and np.array_equal(a, axes[0]) for a in axes)
     common = axes[0] if same else np.unique(np.concatenate(axes))
-    ft = (common - start) / np.timedelta64(1, "s")
-    ft = ft.astype(float)
+    ft = _seconds(common)
     nm = len(members)
     fa = np.empty((nm, ft.size))
     fts = np.full((nm, ft.size), np.nan)
     fq = np.full((nm, ft.size), np.nan)
     for i, m in enumerate(members):
-        own = (m.forcing["time"].values.astype("datetime64[ns]") - start) / np.timedelta64(1, "s")
-        own = own.astype(float)
+        own = _seconds(m.forcing["time"].values)
         fa[i] = np.interp(ft, own, m.forcing["air_temperature"].values)
         if "surface_temperature" in m.forcing:
             fts[i] = np.interp(ft, own, m.forcing["surface_temperature"].values)
@@ -234,7 +243,7 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
         run_period(cfg0, m.forcing, source)
     interval = parse_duration(cfg0.output.interval)
     times = output_times(start, end, interval)
-    tsec = ((times - start) / np.timedelta64(1, "s")).astype(float)
+    tsec = _seconds(times)
     ft, fa, fts, fq = _forcing_arrays(members, start)
     nm = len(members)
     pars = np.ascontiguousarray(np.stack([parameter_vector(m.config) for m in members]))
@@ -244,11 +253,11 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
             ys[i] = initial_states[i]
             continue
         prof = profiles[i] if profiles is not None else None
-        air0 = float(np.interp(0.0, ft, fa[i]))
+        air0 = float(np.interp(tsec[0], ft, fa[i]))
         if m.config.surface.scheme == "prescribed":
             if not np.isfinite(fts[i]).all():
                 raise InputError(f"{source}: [surface] scheme = 'prescribed' needs a 'surface_temperature' column")
-            ts0 = float(np.interp(0.0, ft, fts[i]))
+            ts0 = float(np.interp(tsec[0], ft, fts[i]))
         else:
             ts0 = _steady_surface_temperature(m.config, air0)
         ys[i] = initial_state(m.config, ts0, prof)
@@ -337,3 +346,63 @@ def run_ensemble(members: Sequence[Member], *, progress=None) -> xr.Dataset:
 
     raw = simulate(members, progress=progress)
     return to_dataset(raw, keep_member=True)
+
+
+#: Settings that may differ between a run and the run it restarts from.
+RESTART_FREE_KEYS = ("run.start", "run.end")
+
+
+def restart_state(previous: xr.Dataset, config: Config, source: str = "restart file"):
+    """Last state of a previous single-column output, to continue it.
+
+    Parameters
+    ----------
+    previous : xarray.Dataset
+        An icecolumn output (``layer_state`` and the ``icecolumn_config`` attribute).
+    config : Config
+        The configuration of the continuation; it must equal the previous run's except
+        for ``[run] start`` and ``end`` (an :class:`InputError` lists the keys that differ).
+
+    Returns
+    -------
+    state : ndarray
+        The float64 prognostic state vector at the last output time.
+    time : numpy.datetime64
+        That time; the continuation starts there.
+    """
+    from .config import config_from_toml_text
+
+    if "layer_state" not in previous.variables or "icecolumn_config" not in previous.attrs:
+        raise InputError(f"{source}: not an icecolumn output file with restart data (layer_state, icecolumn_config)")
+    if "member" in previous["layer_state"].dims:
+        raise InputError(f"{source}: restart from an ensemble file is not supported; use a single-column output")
+    before = config_from_toml_text(previous.attrs["icecolumn_config"], source=f"{source} (icecolumn_config)").to_dict()
+    now = config.to_dict()
+    differ = []
+    for sec, keys in now.items():
+        for key, value in keys.items():
+            if f"{sec}.{key}" in RESTART_FREE_KEYS:
+                continue
+            old = before.get(sec, {}).get(key)
+            if old != value:
+                differ.append(f"[{sec}] {key} (file {old!r}, now {value!r})")
+    if differ:
+        raise InputError(f"{source}: the restart file was made with a different configuration: " + "; ".join(differ))
+    state = np.asarray(previous["layer_state"].transpose("time", "state").values[-1], dtype=np.float64)
+    n = config.grid.layers
+    if state.size != K.state_size(n):
+        raise InputError(f"{source}: restart state has {state.size} values, expected {K.state_size(n)}")
+    return state, np.datetime64(previous["time"].values[-1], "ns")
+
+
+def run_restart(forcing: xr.Dataset, config: Config, previous: xr.Dataset, *, progress=None,
+                source: str = "restart file") -> xr.Dataset:
+    """Continue a previous run from its last output time (same configuration).
+
+    The continuation's first time is the previous file's last time, and cumulative budget
+    terms go on from their values there.  A run split in two this way is bitwise identical
+    to the run done in one go when the split time is one of the one-go run's output times.
+    """
+    state, t0 = restart_state(previous, config, source)
+    cfg = config.replace("run", start=str(np.datetime64(t0, "s")))
+    return run(forcing, cfg, progress=progress, initial_state_vector=state)

@@ -83,6 +83,7 @@ from .constants import GRAVITY
 from .phase import brine_salinity_derivative_scalar, invert_enthalpy_guess_scalar, invert_enthalpy_scalar, \
     liquidus_temperature_scalar
 from .properties import conductivity_scalar
+from .surface import PENETRATION_ICE, albedo_scalar, longwave_down_scalar, net_surface_flux_scalar
 
 # ---------------------------------------------------------------------------------------
 # parameter vector layout (one row per member)
@@ -114,6 +115,7 @@ P_DMU = 23  # dynamic viscosity of brine [kg m-1 s-1]
 P_DRAMP = 24  # smoothing width of the onset (Ra - Ra_c)+ [1]
 P_DPHIW = 25  # smoothing width of the percolation threshold [1]
 P_DBETA = 26  # brine density slope d rho / d S_br [kg m-3 (g/kg)-1]
+P_WIND = 27  # wind speed when the forcing has none [m s-1]
 NPAR = 32
 
 NBUDGET = 8
@@ -126,7 +128,21 @@ B_S_DRAIN = 5
 B_E_DRAIN = 6
 B_V_DRAIN = 7
 
-SURFACE_SCHEMES = {"linear": 0, "prescribed": 1}
+SURFACE_SCHEMES = {"linear": 0, "prescribed": 1, "energy_balance": 2}
+
+# forcing variables (rows of the per-member forcing array; NaN where a member has none)
+F_AIR = 0  # air temperature [degC]
+F_TSURF = 1  # prescribed surface temperature [degC]
+F_QOCEAN = 2  # ocean heat flux [W m-2]
+F_SW = 3  # shortwave down [W m-2]
+F_LW = 4  # longwave down [W m-2]
+F_CLOUD = 5  # cloud fraction [1]
+F_WIND = 6  # wind speed [m s-1]
+F_RH = 7  # relative humidity (water) [%]
+F_SNOWDEPTH = 8  # measured snow depth [m]
+NFORCING = 9
+FORCING_NAMES = ("air_temperature", "surface_temperature", "ocean_heat_flux", "shortwave_down",
+                 "longwave_down", "cloud_fraction", "wind_speed", "relative_humidity", "snow_thickness")
 
 # TR-BDF2 coefficients
 _GAMMA = 2.0 - np.sqrt(2.0)
@@ -196,24 +212,78 @@ def _cells(y, n, par, temp, phi, sbr, dtde, dtdm, kc):
 
 
 @njit(cache=True)
-def _surface(t0, k0, dz, ta, ts_presc, par):
-    """Downward conductive flux into the top layer, its derivative w.r.t. T0, and T_s."""
-    rs = par[P_HSNOW] / par[P_KSNOW] if par[P_HSNOW] > 0.0 else 0.0
+def _snow_depth(fv, par):
+    """Snow thickness [m]: measured depth from the forcing, else the configured slab."""
+    d = fv[F_SNOWDEPTH]
+    return d if d == d else par[P_HSNOW]
+
+
+@njit(cache=True)
+def _surface(t0, k0, dz, fv, par):
+    """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature
+    and the melt energy flux the capped surface could not take [W m-2].
+
+    The flux includes the shortwave that penetrates the surface (energy balance scheme).
+    """
+    hs = _snow_depth(fv, par)
+    rs = hs / par[P_KSNOW] if hs > 0.0 else 0.0
     rc = 0.5 * dz / k0 + rs  # resistance surface -> top-layer centre
     tm = par[P_TMELT]
-    if int(par[P_SURF]) == 1:
-        ts = ts_presc if ts_presc < tm else tm
-        f = (ts - t0) / rc
-        return f, -1.0 / rc, ts
-    hc = par[P_HTC]
-    rt = 1.0 / hc + rc
-    f = (ta - t0) / rt
-    ts = ta - f / hc
-    if ts > tm:
-        ts = tm
+    scheme = int(par[P_SURF])
+    ta = fv[F_AIR]
+    if scheme == 1:
+        tsp = fv[F_TSURF]
+        ts = tsp if tsp < tm else tm
+        return (ts - t0) / rc, -1.0 / rc, ts, 0.0
+    if scheme == 0:
+        hc = par[P_HTC]
+        rt = 1.0 / hc + rc
+        f = (ta - t0) / rt
+        ts = ta - f / hc
+        if ts > tm:
+            f_air = hc * (ta - tm)
+            f = (tm - t0) / rc
+            return f, -1.0 / rc, tm, f_air - f
+        return f, -1.0 / rt, ts, 0.0
+    # energy balance: solve F_net(T_s) = (T_s - T0) / rc for T_s
+    sw = fv[F_SW]
+    if sw != sw:
+        sw = 0.0
+    cloud = fv[F_CLOUD]
+    lw = fv[F_LW]
+    if lw != lw:
+        lw = longwave_down_scalar(ta, cloud if cloud == cloud else 0.5)
+    wind = fv[F_WIND]
+    if wind != wind:
+        wind = par[P_WIND]
+    rh = fv[F_RH]
+    if rh != rh:
+        rh = 90.0
+    i0 = 0.0 if hs >= 0.01 else PENETRATION_ICE
+    ts = t0 if t0 < tm else tm
+    alb = albedo_scalar(hs, ts, tm)
+    for _ in range(30):
+        fn, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
+        res = fn - (ts - t0) / rc
+        dres = dfn - 1.0 / rc
+        step = -res / dres
+        if step > 20.0:
+            step = 20.0
+        if step < -20.0:
+            step = -20.0
+        ts += step
+        if abs(step) < 1e-10:
+            break
+    pen = i0 * (1.0 - alb) * sw
+    if ts >= tm:
+        alb = albedo_scalar(hs, tm, tm)
+        pen = i0 * (1.0 - alb) * sw
+        fn, _ = net_surface_flux_scalar(tm, ta, sw, lw, wind, rh, alb, i0)
         f = (tm - t0) / rc
-        return f, -1.0 / rc, ts
-    return f, -1.0 / rt, ts
+        return f + pen, -1.0 / rc, tm, fn - f
+    _, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
+    dts = (-1.0 / rc) / (dfn - 1.0 / rc)  # d T_s / d T0 (implicit function)
+    return (ts - t0) / rc + pen, (dts - 1.0) / rc, ts, 0.0
 
 
 @njit(cache=True)
@@ -350,7 +420,7 @@ def _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra):
 
 
 @njit(cache=True)
-def _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra):
+def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra):
     """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
 
     ``r`` is the basal velocity used by the advective fluxes. If ``want_cells`` the
@@ -365,7 +435,7 @@ def _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cell
     tf = liquidus_temperature_scalar(par[P_SW])
     hw = rho * par[P_CL] * tf
     mw = rho * par[P_SW] / 1000.0
-    f0, df0, ts = _surface(temp[0], kc[0], dz, ta, tsp, par)
+    f0, df0, ts, _melt = _surface(temp[0], kc[0], dz, fv, par)
     for i in range(2 * n + 1 + NBUDGET):
         f[i] = 0.0
     # face 0 (surface)
@@ -639,7 +709,7 @@ def _err_norm(vec, y, n, par, ny):
 
 
 @njit(cache=True)
-def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc,
+def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc,
                   lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc):
     """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r).
 
@@ -653,7 +723,7 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         h = y[2 * n]
         if not (h > 0.0):
             return False, r
-        _ts, df0 = _rhs(y, r, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _ts, df0 = _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         # residuals (negated, as Newton rhs)
         for i in range(ncell):
             rhs[0, i] = -(y[i] - base[i] - a_dt * f[i])
@@ -665,7 +735,7 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
         for i in range(2 * n + 1 + NBUDGET):
             ytmp[i] = y[i]
         ytmp[2 * n] = h + dh
-        _rhs(ytmp, r, n, par, ta, tsp, fw, ftmp, sc[0, :n], sc[1, :n], sc[2, :n], sc[3, :n], sc[4, :n],
+        _rhs(ytmp, r, n, par, fv, fw, ftmp, sc[0, :n], sc[1, :n], sc[2, :n], sc[3, :n], sc[4, :n],
              sc[5, :n], True, sc[6, :], sc[7, :n], sc[8, :n])
         for i in range(ncell):
             rhs[1, i] = -a_dt * (ftmp[i] - f[i]) / dh  # B column (h)
@@ -723,7 +793,21 @@ def _newton_stage(y, base, a_dt, n, par, ta, tsp, fw, f, temp, phi, sbr, dtde, d
 
 
 @njit(cache=True)
-def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
+def _forcing_at(ft, forc, t, i0, par, out):
+    """All forcing variables at time t into ``out``; ocean heat flux defaults to the parameter."""
+    i = i0
+    for v in range(NFORCING):
+        if forc[v, 0] != forc[v, 0]:  # variable absent for this member (whole row NaN)
+            out[v] = np.nan
+            continue
+        out[v], i = _interp(ft, forc[v], t, i0)
+    if out[F_QOCEAN] != out[F_QOCEAN]:
+        out[F_QOCEAN] = par[P_FW]
+    return i
+
+
+@njit(cache=True)
+def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
     """Advance one member's state from t0 to t1 in place. Returns a status code.
 
     0 success; 1 step size underflow (solver failure). nsteps_out[0] counts accepted
@@ -759,7 +843,9 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
     sc = np.empty((9, n + 1))
     temp[:] = np.nan  # no first guess for the enthalpy inversion: restart-safe
     sc[0, :] = np.nan
-    fwdef = par[P_FW]
+    fv1 = np.empty(NFORCING)
+    fv2 = np.empty(NFORCING)
+    fv3 = np.empty(NFORCING)
     t = t0
     dt = par[P_INITDT]
     maxdt = par[P_MAXDT]
@@ -774,44 +860,34 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
         if dt < 1e-4:
             return 1
         # forcing at the three stage times
-        ta1, idx = _interp(ft, fa[:], t, idx)
-        ts1, _ = _interp(ft, fts[:], t, idx)
-        fw1, _ = _interp(ft, fq[:], t, idx)
-        if fw1 != fw1:
-            fw1 = fwdef
-        tg = t + _GAMMA * dt
-        ta2, i2 = _interp(ft, fa[:], tg, idx)
-        ts2, _ = _interp(ft, fts[:], tg, i2)
-        fw2, _ = _interp(ft, fq[:], tg, i2)
-        if fw2 != fw2:
-            fw2 = fwdef
-        ta3, i3 = _interp(ft, fa[:], t + dt, i2)
-        ts3, _ = _interp(ft, fts[:], t + dt, i3)
-        fw3, _ = _interp(ft, fq[:], t + dt, i3)
-        if fw3 != fw3:
-            fw3 = fwdef
+        idx = _forcing_at(ft, forc, t, idx, par, fv1)
+        i2 = _forcing_at(ft, forc, t + _GAMMA * dt, idx, par, fv2)
+        _forcing_at(ft, forc, t + dt, i2, par, fv3)
+        fw1 = fv1[F_QOCEAN]
+        fw2 = fv2[F_QOCEAN]
+        fw3 = fv3[F_QOCEAN]
         # stage 1 (explicit)
         r1 = _hdot_of_state(y, n, par, fw1)
-        _rhs(y, r1, n, par, ta1, ts1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _rhs(y, r1, n, par, fv1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         # stage 2
         for i in range(ny):
             base[i] = y[i] + dt * _D * f1[i]
             y2[i] = y[i] + dt * _GAMMA * f1[i]
         if not (y2[2 * n] > 0.5 * y[2 * n]):
             y2[2 * n] = y[2 * n]
-        ok, r2 = _newton_stage(y2, base, _D * dt, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde,
+        ok, r2 = _newton_stage(y2, base, _D * dt, n, par, fv2, fw2, f2, temp, phi, sbr, dtde,
                                dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
                                wflux, qsink, ra, sc)
         nsteps_out[2] += 1
         if ok:
             r2 = _hdot_of_state(y2, n, par, fw2)
-            _rhs(y2, r2, n, par, ta2, ts2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
             for i in range(ny):
                 base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
                 y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
             if not (y3[2 * n] > 0.5 * y[2 * n]):
                 y3[2 * n] = y2[2 * n]
-            ok, r3 = _newton_stage(y3, base, _D * dt, n, par, ta3, ts3, fw3, f3, temp, phi, sbr,
+            ok, r3 = _newton_stage(y3, base, _D * dt, n, par, fv3, fw3, f3, temp, phi, sbr,
                                    dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
                                    col_r, 10, wflux, qsink, ra, sc)
         if not ok:
@@ -819,7 +895,7 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
             nsteps_out[1] += 1
             continue
         r3 = _hdot_of_state(y3, n, par, fw3)
-        _rhs(y3, r3, n, par, ta3, ts3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
         for i in range(ny):
             err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
         en = _err_norm(err, y, n, par, 2 * n + 1)
@@ -850,34 +926,34 @@ def _step_member(y, t0, t1, n, par, ft, fa, fts, fq, nsteps_out):
 
 
 @njit(cache=True)
-def advance(ys, t0, t1, n, pars, ft, fa, fts, fq, status, counters):
+def advance(ys, t0, t1, n, pars, ft, forc, status, counters):
     """Advance every member (rows of ``ys``) from t0 to t1 [s]; each member on its own.
 
     Parameters
     ----------
     ys : (members, state) float64, modified in place
     pars : (members, NPAR) float64
-    ft : (ntimes,) forcing times [s]
-    fa, fts, fq : (members, ntimes) air temperature [degC], surface temperature [degC]
-        (NaN when absent), ocean heat flux [W m-2] (NaN: use the member's parameter)
+    ft : (ntimes,) forcing times [s since the model epoch]
+    forc : (members, NFORCING, ntimes) forcing values (``F_*`` rows; NaN where absent)
     status : (members,) int64 out; counters : (members, 3) int64 accumulated
     """
     for mbr in range(ys.shape[0]):
         if status[mbr] != 0:
             continue
-        status[mbr] = _step_member(ys[mbr], t0, t1, n, pars[mbr], ft, fa[mbr], fts[mbr], fq[mbr],
-                                   counters[mbr])
+        status[mbr] = _step_member(ys[mbr], t0, t1, n, pars[mbr], ft, forc[mbr], counters[mbr])
 
 
 @njit(cache=True)
-def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra, wbase):
+def diagnose(ys, n, pars, ft, forc, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra, wbase, melt, snow):
     """Layer temperature, liquid fraction, brine and bulk salinity, conductivity, Rayleigh
-    number; surface temperature, basal velocity and drained brine flux of every member at t."""
+    number; surface temperature, basal velocity, drained brine flux, unused melt energy flux
+    and snow thickness of every member at t."""
     nm = ys.shape[0]
     dtde = np.empty(n)
     dtdm = np.empty(n)
     wflux = np.empty(n + 1)
     qsink = np.empty(n)
+    fv = np.empty(NFORCING)
     for mbr in range(nm):
         y = ys[mbr]
         par = pars[mbr]
@@ -887,13 +963,11 @@ def diagnose(ys, n, pars, ft, fa, fts, fq, t, temp, phi, sbr, sal, kc, tsurf, hd
         dz = h / n
         for k in range(n):
             sal[mbr, k] = 1000.0 * y[n + k] / (par[P_RHO] * dz)
-        ta, i = _interp(ft, fa[mbr], t, 0)
-        tsp, _ = _interp(ft, fts[mbr], t, i)
-        fw, _ = _interp(ft, fq[mbr], t, i)
-        if fw != fw:
-            fw = par[P_FW]
-        _f, _d, ts = _surface(temp[mbr, 0], kc[mbr, 0], dz, ta, tsp, par)
+        _forcing_at(ft, forc[mbr], t, 0, par, fv)
+        _f, _d, ts, mx = _surface(temp[mbr, 0], kc[mbr, 0], dz, fv, par)
         tsurf[mbr] = ts
-        hdot[mbr] = _hdot_of_state(y, n, par, fw)
+        melt[mbr] = mx
+        snow[mbr] = _snow_depth(fv, par)
+        hdot[mbr] = _hdot_of_state(y, n, par, fv[F_QOCEAN])
         _drainage(y, n, par, temp[mbr], phi[mbr], sbr[mbr], wflux, qsink, ra[mbr])
         wbase[mbr] = wflux[n]

@@ -82,6 +82,7 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_INITDT] = parse_duration(cfg.solver.initial_step)
     p[K.P_DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
     p[K.P_TMELT] = 0.0
+    p[K.P_WIND] = 5.0  # m s-1, used by the energy balance when the forcing has no wind_speed
     drainage_parameters(cfg, p)
     return p
 
@@ -204,23 +205,19 @@ def _seconds(times) -> np.ndarray:
 
 
 def _forcing_arrays(members: Sequence[Member], start: np.datetime64):
-    """Common forcing time axis (seconds since the epoch) and per-member value arrays."""
+    """Common forcing time axis (seconds since the epoch) and the per-member forcing array
+    ``(members, kernel.NFORCING, times)``; variables a member's forcing lacks are NaN."""
     axes = [m.forcing["time"].values.astype("datetime64[ns]") for m in members]
     same = all(a.shape == axes[0].shape and np.array_equal(a, axes[0]) for a in axes)
     common = axes[0] if same else np.unique(np.concatenate(axes))
     ft = _seconds(common)
-    nm = len(members)
-    fa = np.empty((nm, ft.size))
-    fts = np.full((nm, ft.size), np.nan)
-    fq = np.full((nm, ft.size), np.nan)
+    forc = np.full((len(members), K.NFORCING, ft.size), np.nan)
     for i, m in enumerate(members):
         own = _seconds(m.forcing["time"].values)
-        fa[i] = np.interp(ft, own, m.forcing["air_temperature"].values)
-        if "surface_temperature" in m.forcing:
-            fts[i] = np.interp(ft, own, m.forcing["surface_temperature"].values)
-        if "ocean_heat_flux" in m.forcing:
-            fq[i] = np.interp(ft, own, m.forcing["ocean_heat_flux"].values)
-    return ft, fa, fts, fq
+        for v, name in enumerate(K.FORCING_NAMES):
+            if name in m.forcing:
+                forc[i, v] = np.interp(ft, own, m.forcing[name].values.astype(float))
+    return ft, forc
 
 
 def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = None,
@@ -244,7 +241,10 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     interval = parse_duration(cfg0.output.interval)
     times = output_times(start, end, interval)
     tsec = _seconds(times)
-    ft, fa, fts, fq = _forcing_arrays(members, start)
+    ft, forc = _forcing_arrays(members, start)
+    fa = forc[:, K.F_AIR]
+    fts = forc[:, K.F_TSURF]
+    fq = forc[:, K.F_QOCEAN]
     nm = len(members)
     pars = np.ascontiguousarray(np.stack([parameter_vector(m.config) for m in members]))
     ys = np.empty((nm, K.state_size(n)))
@@ -278,12 +278,18 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     ra_now = np.empty((nm, n))
     wb_now = np.empty(nm)
     rayleigh = np.empty(shp)
+    melt_now = np.empty(nm)
+    snow_now = np.empty(nm)
+    melt_energy = np.empty((nm, nt))
+    snow_depth = np.empty((nm, nt))
 
     def record(it):
         state[:, it] = ys
-        K.diagnose(ys, n, pars, ft, fa, fts, fq, tsec[it], tmp[0], tmp[1], tmp[2], tmp[3], kc, tsv, hdot,
-                   ra_now, wb_now)
+        K.diagnose(ys, n, pars, ft, forc, tsec[it], tmp[0], tmp[1], tmp[2], tmp[3], kc, tsv, hdot,
+                   ra_now, wb_now, melt_now, snow_now)
         rayleigh[:, it] = ra_now
+        melt_energy[:, it] = melt_now
+        snow_depth[:, it] = snow_now
         temp[:, it] = tmp[0]
         phi[:, it] = tmp[1]
         sbr[:, it] = tmp[2]
@@ -292,7 +298,7 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
 
     record(0)
     for it in range(1, nt):
-        K.advance(ys, tsec[it - 1], tsec[it], n, pars, ft, fa, fts, fq, status, counters)
+        K.advance(ys, tsec[it - 1], tsec[it], n, pars, ft, forc, status, counters)
         if status.any():
             bad = int(np.flatnonzero(status)[0])
             raise IceColumnError(
@@ -311,7 +317,8 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
                      air_temperature_mean=air_mean, ocean_heat_flux_mean=fq_mean,
                      ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
                      forcings=[m.forcing for m in members], counters=counters,
-                     extra={"rayleigh_number": rayleigh})
+                     extra={"rayleigh_number": rayleigh, "surface_melt_energy": melt_energy,
+                            "snow_thickness": snow_depth})
 
 
 def run(forcing: xr.Dataset, config: Config | None = None, *, progress=None,

@@ -71,7 +71,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     frac = (np.arange(n) + 0.5) / n
     depth = h[..., None] * frac
     bounds = np.stack([h[..., None] * (np.arange(n) / n), h[..., None] * ((np.arange(n) + 1) / n)], axis=-1)
-    snow = np.array([c.initial.snow_thickness for c in raw.configs])[:, None] * np.ones((nm, nt))
+    snow = raw.extra["snow_thickness"]
 
     dims_t = ("member", "time")
     dims_tl = ("member", "time", "layer")
@@ -139,6 +139,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                            "fresh water from the ocean (negative), melt gives it back, and "
                                            "drainage (brine out, sea water in) changes it by the salt exchanged. "
                                            "No virtual salt flux is offered; salt_flux is the real salt flux."))
+    v["surface_melt_energy_flux"] = (dims_t, raw.extra["surface_melt_energy"],
+                                     _attrs("W m-2", "energy flux available for surface melt while the surface "
+                                                     "is at its melting point",
+                                            comment="instantaneous; not yet used to melt the surface"))
     v["rayleigh_number"] = (dims_tl, raw.extra["rayleigh_number"],
                             _attrs("1", "local mush Rayleigh number of the layer"))
     v["energy_input_surface"] = (dims_t, e_surf, _attrs("J m-2", f"heat conducted into the ice at its surface, {cum}"))

@@ -298,11 +298,11 @@ def test_positivity_one_step(state):
     ys = y[None, :].copy()
     pars = np.ascontiguousarray(parameter_vector(cfg)[None, :])
     ft = np.array([0.0, 7200.0])
-    fa = np.full((1, 2), -20.0)
-    nan = np.full((1, 2), np.nan)
+    forc = np.full((1, K.NFORCING, 2), np.nan)  # only air temperature given
+    forc[0, K.F_AIR] = -20.0
     status = np.zeros(1, np.int64)
     counters = np.zeros((1, 3), np.int64)
-    K.advance(ys, 0.0, 3600.0, n, pars, ft, fa, nan, nan.copy(), status, counters)
+    K.advance(ys, 0.0, 3600.0, n, pars, ft, forc, status, counters)
     assert status[0] == 0
     y1 = ys[0]
     h1 = y1[2 * n]

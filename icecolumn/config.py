@@ -49,6 +49,7 @@ __all__ = [
     "DrainageSection",
     "OutputSection",
     "SolverSection",
+    "ForcingSection",
     "default_config",
     "load_config",
     "config_from_toml_text",
@@ -58,7 +59,7 @@ __all__ = [
 ]
 
 #: Names accepted by ``[surface] scheme``.
-SURFACE_SCHEMES: tuple[str, ...] = ("linear", "prescribed")
+SURFACE_SCHEMES: tuple[str, ...] = ("linear", "prescribed", "energy_balance")
 #: Names accepted by ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
 #: Names accepted by ``[drainage] scheme``.
@@ -139,6 +140,7 @@ PARAMETERS: dict[str, Param] = {
     "solver.rtol": Param(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True),
     "solver.max_step": Param("6h", "", "longest time step allowed", "duration"),
     "solver.initial_step": Param("10min", "", "first time step tried (at most max_step)", "duration"),
+    "forcing.max_gap": Param("6h", "", "longest gap in a forcing column (empty cells or missing rows) filled by linear interpolation; longer gaps are an error", "duration"),
 }
 
 
@@ -365,6 +367,22 @@ class SolverSection(_Section):
 
 
 @dataclass(frozen=True)
+class ForcingSection(_Section):
+    """``[forcing]``: how the forcing file is read.
+
+    Only ``max_gap`` lives here.  The mapping of our variable names to the
+    file's column (or NetCDF variable) names is not a setting: the flat
+    :data:`PARAMETERS` table holds one scalar per key, and one key per forcing
+    variable would be many keys nearly always unset.  Give the mapping on the
+    command line (``--column ours=theirs``, repeatable) or as ``column_map`` to
+    :func:`icecolumn.read_forcing`.
+    """
+
+    section: ClassVar[str] = "forcing"
+    max_gap: str = _default("forcing.max_gap")
+
+
+@dataclass(frozen=True)
 class Config:
     """Complete, validated run configuration; one attribute per TOML section."""
 
@@ -377,6 +395,7 @@ class Config:
     drainage: DrainageSection = field(default_factory=DrainageSection)
     output: OutputSection = field(default_factory=OutputSection)
     solver: SolverSection = field(default_factory=SolverSection)
+    forcing: ForcingSection = field(default_factory=ForcingSection)
 
     def __post_init__(self) -> None:
         for name, cls in SECTIONS.items():

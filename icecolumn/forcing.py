@@ -1,24 +1,55 @@
-"""Forcing: CSV reader and in-memory constructor for air-temperature forcing.
+"""Forcing: CSV and CF NetCDF readers and an in-memory constructor.
 
-A forcing file is UTF-8 CSV: optional leading comment lines starting with
-``#`` (the first is kept as the title), one header row, then one row per time.
+A forcing file is either UTF-8 CSV or CF NetCDF (see :func:`read_forcing_netcdf`).
+A CSV file has optional leading comment lines starting with ``#`` (the first is
+kept as the title), one header row, then one row per time.
 
-==========================  ======  ==========================================
-column                      units   meaning
-==========================  ======  ==========================================
-``time`` (required)         ISO     ISO 8601; no offset = UTC; ``Z``/``+02:00`` honoured
-``air_temperature`` (req.)  degC    air temperature near the surface
-``surface_temperature``     degC    ice or snow surface temperature (optional)
-``ocean_heat_flux``         W m-2   heat flux from the ocean into the ice base,
-                                    positive upward (optional)
-==========================  ======  ==========================================
+==========================  ===========  ==========================================
+column                      units        meaning
+==========================  ===========  ==========================================
+``time`` (required)         ISO          ISO 8601; no offset = UTC; ``Z``/``+02:00`` honoured
+``air_temperature`` (req.)  degC         air temperature near the surface
+``surface_temperature``     degC         ice or snow surface temperature
+``ocean_heat_flux``         W m-2        heat flux from the ocean into the ice base,
+                                         positive upward
+``wind_speed``              m s-1        wind speed near the surface, >= 0
+``relative_humidity``       %            relative humidity *with respect to liquid
+                                         water* (also below 0 degC, as station
+                                         hygrometers report it); 100-105 % is
+                                         clipped to 100 % with a warning
+``shortwave_down``          W m-2        downwelling shortwave radiation, >= 0
+``longwave_down``           W m-2        downwelling longwave radiation, >= 0
+``cloud_fraction``          1            cloud cover as a fraction in [0, 1]
+``snow_thickness``          m            measured snow depth on the ice, >= 0
+``snowfall``                kg m-2 s-1   snowfall rate as water equivalent, >= 0
+==========================  ===========  ==========================================
 
-Other columns are ignored (their names go to ``attrs["ignored_columns"]``).
-Both :func:`read_forcing` and :func:`forcing_from_arrays` return the same
+All columns but ``time`` and ``air_temperature`` are optional.  Other columns
+are ignored (their names go to ``attrs["ignored_columns"]``).
+
+Gaps
+----
+An empty cell, or a time step longer than 1.5 times the file's median step
+("missing rows"), is a gap.  A gap is bridged by linear interpolation in time
+between the last value before it and the first value after it, provided that
+interval is at most ``max_gap`` (default ``"6h"``, also ``[forcing] max_gap``);
+a longer gap is an :class:`~icecolumn.errors.InputError` naming the column and
+the period.  Missing rows are not inserted: every consumer of a forcing
+Dataset takes values as linear in time between rows, which already is the
+linear fill.  Filled gaps are reported once per read as a
+:class:`ForcingWarning` and counted in ``attrs["gaps_filled"]`` (each run of
+empty cells in one column counts once, each over-long time step counts once)
+with the longest bridged interval in ``attrs["longest_gap_filled"]`` [s].
+An empty cell in the first or last row of a column cannot be interpolated and
+is an error; an optional column that is entirely empty is left out with a
+warning.  Texts such as ``nan`` or ``inf`` are errors, not gaps.
+
+Both readers and :func:`forcing_from_arrays` return the same
 :class:`xarray.Dataset`: coordinate ``time`` (``datetime64[ns]``, naive UTC,
-strictly increasing), float64 variables with ``units`` and ``long_name``.
-Every problem is an :class:`~icecolumn.errors.InputError` whose one-line
-message names the file and the physical line (1-based).
+strictly increasing), float64 variables (finite, in the units above) with
+``units`` and ``long_name``.  Every problem is an
+:class:`~icecolumn.errors.InputError` whose one-line message names the file
+and the physical line (1-based) or the variable.
 """
 
 from __future__ import annotations
@@ -26,6 +57,9 @@ from __future__ import annotations
 import csv
 import datetime as _dt
 import hashlib
+import math
+import re
+import warnings
 from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
@@ -35,14 +69,36 @@ import xarray as xr
 
 from .errors import InputError
 from .textfile import read_user_text
-from .timeutil import format_time, parse_times
+from .timeutil import format_time, parse_duration, parse_times
 
-__all__ = ["VARIABLES", "read_forcing", "forcing_from_arrays"]
+__all__ = [
+    "VARIABLES",
+    "CF_STANDARD_NAMES",
+    "NETCDF_UNITS",
+    "ForcingWarning",
+    "read_forcing",
+    "read_forcing_netcdf",
+    "forcing_from_arrays",
+    "DEFAULT_MAX_GAP",
+]
+
+#: Longest gap bridged by linear interpolation unless told otherwise.
+DEFAULT_MAX_GAP = "6h"
+#: A time step longer than this times the median step is a gap (missing rows).
+GAP_STEP_FACTOR = 1.5
+
+
+class ForcingWarning(UserWarning):
+    """Something in a forcing file was repaired (gaps filled, values clipped)."""
+
 
 #: Forcing variables other than ``time``: CF attributes and the plausible range
 #: checked on input (common practice, no source: Earth's recorded air
 #: temperatures lie within about -90..+57 degC; the ocean heat-flux range is a
-#: generous bound around the few to tens of W m-2 reported under sea ice).
+#: generous bound around the few to tens of W m-2 reported under sea ice; the
+#: other upper bounds are generous physical limits: wind 120 m s-1, the
+#: top-of-atmosphere solar constant of about 1361 W m-2 for shortwave, 10 m of
+#: snow, 0.1 kg m-2 s-1 = 360 mm per hour of water-equivalent snowfall).
 VARIABLES: dict[str, dict[str, Any]] = {
     "air_temperature": {
         "attrs": {"units": "degC", "long_name": "air temperature", "standard_name": "air_temperature"},
@@ -60,41 +116,192 @@ VARIABLES: dict[str, dict[str, Any]] = {
         "range": (-50.0, 500.0),
         "required": False,
     },
+    "wind_speed": {
+        "attrs": {"units": "m s-1", "long_name": "wind speed", "standard_name": "wind_speed"},
+        "range": (0.0, 120.0),
+        "required": False,
+    },
+    "relative_humidity": {
+        "attrs": {"units": "%", "long_name": "relative humidity with respect to liquid water",
+                  "standard_name": "relative_humidity"},
+        "range": (0.0, 105.0),  # 100..105 clipped to 100 with a warning
+        "required": False,
+    },
+    "shortwave_down": {
+        "attrs": {"units": "W m-2", "long_name": "downwelling shortwave radiation at the surface",
+                  "standard_name": "surface_downwelling_shortwave_flux_in_air"},
+        "range": (0.0, 1500.0),
+        "required": False,
+    },
+    "longwave_down": {
+        "attrs": {"units": "W m-2", "long_name": "downwelling longwave radiation at the surface",
+                  "standard_name": "surface_downwelling_longwave_flux_in_air"},
+        "range": (0.0, 1000.0),
+        "required": False,
+    },
+    "cloud_fraction": {
+        "attrs": {"units": "1", "long_name": "cloud cover fraction", "standard_name": "cloud_area_fraction"},
+        "range": (0.0, 1.0),
+        "required": False,
+    },
+    "snow_thickness": {
+        "attrs": {"units": "m", "long_name": "measured snow depth on the ice",
+                  "standard_name": "surface_snow_thickness"},
+        "range": (0.0, 10.0),
+        "required": False,
+    },
+    "snowfall": {
+        "attrs": {"units": "kg m-2 s-1", "long_name": "snowfall rate (water equivalent)",
+                  "standard_name": "snowfall_flux"},
+        "range": (0.0, 0.1),
+        "required": False,
+    },
 }
+
+#: Relative humidity above 100 % up to this value is clipped to 100 % with a warning
+#: (common practice, no source: hygrometers read a few percent high near saturation).
+RH_CLIP_LIMIT = 105.0
+
+#: Our variable name -> CF standard names accepted for it by :func:`read_forcing_netcdf`
+#: (first is preferred).
+CF_STANDARD_NAMES: dict[str, tuple[str, ...]] = {
+    "time": ("time",),
+    "air_temperature": ("air_temperature",),
+    "surface_temperature": ("surface_temperature", "sea_ice_surface_temperature"),
+    "ocean_heat_flux": ("upward_sea_ice_basal_heat_flux",),
+    "wind_speed": ("wind_speed",),
+    "relative_humidity": ("relative_humidity",),
+    "shortwave_down": ("surface_downwelling_shortwave_flux_in_air", "surface_downwelling_shortwave_flux"),
+    "longwave_down": ("surface_downwelling_longwave_flux_in_air", "surface_downwelling_longwave_flux"),
+    "cloud_fraction": ("cloud_area_fraction",),
+    "snow_thickness": ("surface_snow_thickness",),
+    "snowfall": ("snowfall_flux",),
+}
+
+_TEMPERATURE_UNITS = {
+    "K": (1.0, -273.15), "kelvin": (1.0, -273.15), "degK": (1.0, -273.15),
+    **{u: (1.0, 0.0) for u in ("degC", "deg_C", "degreeC", "degree_C", "degrees_C", "Celsius", "celsius",
+                               "degree_Celsius", "degrees_Celsius", "°C")},
+}
+_HEAT_FLUX_UNITS = {u: (1.0, 0.0) for u in ("W m-2", "W m^-2", "W m**-2", "W/m2", "W/m^2", "W.m-2", "W m-2")}
+
+#: Our variable name -> {units attribute text: (scale, offset)}: our value =
+#: file value * scale + offset.  Internal white space in the attribute is collapsed
+#: before the look-up; any other text is an error.
+NETCDF_UNITS: dict[str, dict[str, tuple[float, float]]] = {
+    "air_temperature": _TEMPERATURE_UNITS,
+    "surface_temperature": _TEMPERATURE_UNITS,
+    "ocean_heat_flux": _HEAT_FLUX_UNITS,
+    "shortwave_down": _HEAT_FLUX_UNITS,
+    "longwave_down": _HEAT_FLUX_UNITS,
+    "wind_speed": {u: (1.0, 0.0) for u in ("m s-1", "m s^-1", "m s**-1", "m/s", "m.s-1")},
+    "relative_humidity": {"%": (1.0, 0.0), "percent": (1.0, 0.0), "1": (100.0, 0.0)},
+    "cloud_fraction": {"1": (1.0, 0.0), "%": (0.01, 0.0), "percent": (0.01, 0.0)},
+    "snow_thickness": {"m": (1.0, 0.0), "cm": (0.01, 0.0), "mm": (0.001, 0.0)},
+    "snowfall": {
+        **{u: (1.0, 0.0) for u in ("kg m-2 s-1", "kg m^-2 s^-1", "kg m**-2 s**-1", "kg/m2/s", "kg/m^2/s",
+                                   "mm s-1", "mm/s")},
+        **{u: (1.0 / 3600.0, 0.0) for u in ("mm h-1", "mm hr-1", "mm/h", "mm/hr")},
+    },
+}
+
 _TIME_ATTRS = {"standard_name": "time", "long_name": "time (UTC)"}
 # Values in this range on a degC column were probably written in kelvin.
 _KELVIN_HINT_RANGE = (180.0, 330.0)
+NETCDF_SUFFIXES = (".nc", ".nc4", ".cdf", ".netcdf")
+_NETCDF_SIGNATURES = (b"CDF\x01", b"CDF\x02", b"CDF\x05", b"\x89HDF\r\n\x1a\n")
+# datetime64[ns] holds years 1678..2261; numpy wraps silently outside.
+_YEAR = re.compile(r"\s*([0-9]{4})")
+_YEAR_RANGE = (1678, 2261)
 
 
 def _names(items) -> str:
     return ", ".join(repr(i) for i in items) or "none"
 
 
-def read_forcing(path: str | Path, column_map: Mapping[str, str] | None = None) -> xr.Dataset:
-    """Read a CSV forcing file.
+def _unit_text(unit: str) -> str:
+    return "" if unit == "1" else f" {unit}"
+
+
+def _duration_text(seconds: float) -> str:
+    """Short text of a duration, e.g. ``"6h"``, ``"90min"``, ``"2D"``, ``"1.5s"``."""
+    for size, unit in ((86400.0, "D"), (3600.0, "h"), (60.0, "min")):
+        if seconds >= size and float(seconds / size).is_integer():
+            return f"{int(seconds // size)}{unit}"
+    return f"{seconds:g}s"
+
+
+def _max_gap_seconds(max_gap: Any, name: str) -> float:
+    """``max_gap`` as seconds: a number of seconds (>= 0) or a duration text."""
+    if isinstance(max_gap, str):
+        try:
+            return parse_duration(max_gap)
+        except InputError as err:
+            raise InputError(f"{name}: max_gap: {err}") from None
+    if isinstance(max_gap, bool) or not isinstance(max_gap, (int, float, np.integer, np.floating)):
+        raise InputError(f"{name}: max_gap: expected seconds or a duration text such as '6h', got {max_gap!r}")
+    seconds = float(max_gap)
+    if not math.isfinite(seconds) or seconds < 0.0:
+        raise InputError(f"{name}: max_gap: must be a finite number of seconds >= 0, got {max_gap!r}")
+    return seconds
+
+
+def _is_netcdf(path: Path) -> bool:
+    if path.suffix.lower() in NETCDF_SUFFIXES:
+        return True
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(8)
+    except OSError:
+        return False
+    return head.startswith(_NETCDF_SIGNATURES)
+
+
+# --------------------------------------------------------------------------- CSV
+
+
+def read_forcing(
+    path: str | Path, column_map: Mapping[str, str] | None = None, max_gap: str | float = DEFAULT_MAX_GAP
+) -> xr.Dataset:
+    """Read a forcing file (CSV, or CF NetCDF by suffix or file signature).
 
     Parameters
     ----------
     path : str or pathlib.Path
-        The CSV file (see the module docstring for its layout). [1]
+        The CSV file (see the module docstring for its layout), or a NetCDF file
+        (suffix ``.nc``/``.nc4``/``.cdf``/``.netcdf`` or a NetCDF/HDF5 signature),
+        read by :func:`read_forcing_netcdf`. [1]
     column_map : dict, optional
-        Our variable name -> the file's column name, e.g.
+        Our variable name -> the file's column (or NetCDF variable) name, e.g.
         ``{"air_temperature": "Tair_C"}``; the named column must exist. [1]
+    max_gap : str or float, optional
+        Longest gap bridged by linear interpolation: a duration text such as
+        ``"6h"`` or a number of seconds (0 fills no gap). [s]
 
     Returns
     -------
     forcing : xarray.Dataset
-        ``time`` coordinate [UTC]; ``air_temperature`` [degC] and, when present,
-        ``surface_temperature`` [degC] and ``ocean_heat_flux`` [W m-2].  Attributes
+        ``time`` coordinate [UTC]; ``air_temperature`` [degC] and the optional
+        variables found (units in the module docstring).  Attributes
         ``source_file`` (path as given), ``sha256`` (of the file bytes), ``title``
-        (first comment line) and ``ignored_columns`` (comma-separated).
+        (first comment line), ``ignored_columns`` (comma-separated),
+        ``source_columns`` (``ours=theirs`` pairs), ``gaps_filled`` (count) and
+        ``longest_gap_filled`` [s].
 
     Raises
     ------
     InputError
         ``"<file>: line <n>: <problem>"`` for anything wrong with the file.
+
+    Warns
+    -----
+    ForcingWarning
+        When gaps were filled or relative humidity was clipped.
     """
     name = str(path)
+    if _is_netcdf(Path(path)):
+        return read_forcing_netcdf(path, column_map, max_gap=max_gap)
+    gap_s = _max_gap_seconds(max_gap, name)
     text, raw = read_user_text(path, "forcing file")
 
     lines = text.split("\n")
@@ -145,21 +352,31 @@ def read_forcing(path: str | Path, column_map: Mapping[str, str] | None = None) 
 
     def column_text(var: str) -> list[str]:
         j = columns.index(file_col[var])
-        texts = [cells[j].strip() for cells in rows]
-        for i, t in enumerate(texts):
-            if not t:
-                raise InputError(f"{name}: {label(i)}: column {file_col[var]!r} is empty")
-        return texts
+        return [cells[j].strip() for cells in rows]
 
-    times = parse_times(column_text("time"), lambda i: f"{label(i)}: column {file_col['time']!r}", name)
-    data = {var: _to_float(column_text(var), name, label, file_col[var]) for var in VARIABLES if var in file_col}
+    time_texts = column_text("time")
+    for i, t in enumerate(time_texts):
+        if not t:
+            raise InputError(f"{name}: {label(i)}: column {file_col['time']!r} is empty")
+    times = parse_times(time_texts, lambda i: f"{label(i)}: column {file_col['time']!r}", name)
+    _check_years(time_texts, name, label, f"column {file_col['time']!r}")
+    data = {}
+    for var in VARIABLES:
+        if var in file_col:
+            data[var] = _to_float(column_text(var), name, label, file_col[var])
+    where = {var: "column " + _shown(file_col[var], var) for var in data}
     attrs = {
         "source_file": name,
         "sha256": hashlib.sha256(raw).hexdigest(),
         "title": comments[0] if comments else "",
         "ignored_columns": ",".join(ignored),
+        "source_columns": ",".join(f"{v}={file_col[v]}" for v in ("time", *data)),
     }
-    return _build_dataset(times, data, attrs, name, label, file_col)
+    return _build_dataset(times, data, attrs, name, label, where, gap_s)
+
+
+def _shown(column: str, var: str) -> str:
+    return f"{column!r}" + (f" ({var})" if column != var else "")
 
 
 def _split(line: str, name: str, no: int) -> list[str]:
@@ -169,7 +386,7 @@ def _split(line: str, name: str, no: int) -> list[str]:
         return line.split(",")
     try:
         return next(csv.reader([line], strict=True))
-    except csv.Error as err:
+    except (csv.Error, StopIteration) as err:
         raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
 
 
@@ -200,32 +417,56 @@ def _resolve_columns(columns: list[str], column_map: Mapping[str, str] | None, n
     return found
 
 
-def _to_float(texts: list[str], name: str, label: Callable[[int], str], column: str) -> np.ndarray:
-    try:
-        return np.array(texts, dtype=np.float64)
-    except ValueError:
-        pass
+def _check_years(texts: list[str], name: str, label: Callable[[int], str], what: str) -> None:
+    lo, hi = _YEAR_RANGE
     for i, t in enumerate(texts):
-        try:
-            float(t)
-        except ValueError:
-            raise InputError(f"{name}: {label(i)}: column {column!r}: {t!r} is not a number") from None
-    raise InputError(f"{name}: column {column!r}: values are not numbers")  # pragma: no cover
+        m = _YEAR.match(t)
+        if m and not lo <= int(m.group(1)) <= hi:
+            raise InputError(f"{name}: {label(i)}: {what}: {t!r}: year outside the supported {lo}..{hi}")
+
+
+def _to_float(texts: list[str], name: str, label: Callable[[int], str], column: str) -> np.ndarray:
+    """Numbers of a column; empty cells become NaN (gaps), texts like 'nan' stay non-finite."""
+    empty = np.array([not t for t in texts], dtype=bool)
+    filled = ["nan" if not t else t for t in texts] if empty.any() else texts
+    try:
+        values = np.array(filled, dtype=np.float64)
+    except (ValueError, OverflowError):
+        values = None
+    if values is None:
+        for i, t in enumerate(texts):
+            if not t:
+                continue
+            try:
+                float(t)
+            except (ValueError, OverflowError):
+                raise InputError(f"{name}: {label(i)}: column {column!r}: {t!r} is not a number") from None
+        raise InputError(f"{name}: column {column!r}: values are not numbers")  # pragma: no cover
+    nonfinite = ~np.isfinite(values) & ~empty
+    if nonfinite.any():
+        i = int(np.flatnonzero(nonfinite)[0])
+        raise InputError(f"{name}: {label(i)}: column {column!r}: {float(values[i])!r} is not a finite number")
+    return values
+
+
+# --------------------------------------------------------------------------- shared checks and gap filling
 
 
 def _build_dataset(
     times: np.ndarray,
     data: dict[str, np.ndarray],
-    attrs: dict[str, str],
+    attrs: dict[str, Any],
     name: str,
     label: Callable[[int], str],
-    column_of: Mapping[str, str],
+    where: Mapping[str, str],
+    max_gap: float | None,
 ) -> xr.Dataset:
-    """Check times and values (shared by the reader and the array constructor)."""
+    """Check times and values, fill gaps (``max_gap`` seconds; ``None``: NaN is an error)."""
     n = times.size
     if n < 2:
         raise InputError(f"{name}: only {n} data row{'s' if n != 1 else ''}; at least 2 are needed")
-    steps = np.diff(times.astype("int64"))
+    tint = times.astype("int64")
+    steps = np.diff(tint)
     bad = np.flatnonzero(steps <= 0)
     if bad.size:
         k = int(bad[0]) + 1
@@ -235,32 +476,267 @@ def _build_dataset(
             f"{name}: {label(k)}: time {format_time(times[k])} is not after {format_time(times[k - 1])} "
             f"on {label(k - 1)}; times must be strictly increasing"
         )
+    notes: list[str] = []
+    gaps: list[tuple[float, int, int, str]] = []  # (seconds, first index, last index, where)
+    if max_gap is not None:
+        typical = float(np.median(steps))
+        for k in np.flatnonzero(steps > GAP_STEP_FACTOR * typical):
+            k = int(k)
+            seconds = steps[k] / 1e9
+            if seconds > max_gap:
+                raise InputError(
+                    f"{name}: {label(k)}: no rows from {format_time(times[k])} to {format_time(times[k + 1])} "
+                    f"({label(k + 1)}) in any column: a gap of {_duration_text(seconds)}, longer than "
+                    f"max_gap = {_duration_text(max_gap) if max_gap else '0s'} (median step "
+                    f"{_duration_text(typical / 1e9)})"
+                )
+            gaps.append((seconds, k, k + 1, "every column"))
     variables = {}
+    tsec = (tint - tint[0]) / 1e9
     for var, values in data.items():
         spec = VARIABLES[var]
-        column = column_of.get(var, var)
-        shown = f"{column!r}" + (f" ({var})" if column != var else "")
+        shown = where.get(var, f"column {var!r}")
+        unit = spec["attrs"]["units"]
+        gap = np.isnan(values) if max_gap is not None else np.zeros(n, dtype=bool)
         finite = np.isfinite(values)
-        if not finite.all():
-            i = int(np.flatnonzero(~finite)[0])
-            raise InputError(f"{name}: {label(i)}: column {shown}: {float(values[i])!r} is not a finite number")
+        if not (finite | gap).all():
+            i = int(np.flatnonzero(~(finite | gap))[0])
+            raise InputError(f"{name}: {label(i)}: {shown}: {float(values[i])!r} is not a finite number")
+        valid = np.flatnonzero(~gap)
+        if valid.size == 0:
+            if spec["required"]:
+                raise InputError(f"{name}: {shown} has no values")
+            notes.append(f"{name}: {shown} has no values; left out")
+            continue
         lo, hi = spec["range"]
-        outside = (values < lo) | (values > hi)
+        outside = ~gap & ((values < lo) | (values > hi))
         if outside.any():
             i = int(np.flatnonzero(outside)[0])
-            unit = spec["attrs"]["units"]
             hint = ""
             if unit == "degC" and _KELVIN_HINT_RANGE[0] <= values[i] <= _KELVIN_HINT_RANGE[1]:
                 hint = " (is the file in kelvin?)"
-            raise InputError(
-                f"{name}: {label(i)}: column {shown}: {values[i]:g} {unit} is outside {lo:g}..{hi:g} {unit}{hint}"
-            )
+            if var == "relative_humidity":
+                hint = f" (up to {RH_CLIP_LIMIT:g} % is clipped to 100 %)"
+            u = _unit_text(unit)
+            raise InputError(f"{name}: {label(i)}: {shown}: {values[i]:g}{u} is outside {lo:g}..{hi:g}{u}{hint}")
+        if var == "relative_humidity":
+            high = ~gap & (values > 100.0)
+            if high.any():
+                i = int(np.flatnonzero(high)[0])
+                notes.append(
+                    f"{name}: {shown}: {int(high.sum())} value{'s' if high.sum() != 1 else ''} between 100 and "
+                    f"{RH_CLIP_LIMIT:g} % clipped to 100 % (first on {label(i)}: {values[i]:g} %)"
+                )
+                values = np.where(high, 100.0, values)
+        if gap.any():
+            if gap[0]:
+                raise InputError(
+                    f"{name}: {label(0)}: {shown} is empty at the start of the file (up to {label(int(valid[0]) - 1)}); "
+                    "a gap can only be filled between two values"
+                )
+            if gap[-1]:
+                raise InputError(
+                    f"{name}: {label(int(valid[-1]) + 1)}: {shown} is empty from here to the end of the file "
+                    f"({label(n - 1)}); a gap can only be filled between two values"
+                )
+            jumps = np.flatnonzero(np.diff(valid) > 1)
+            for j in jumps:
+                a, b = int(valid[j]), int(valid[j + 1])
+                seconds = (tint[b] - tint[a]) / 1e9
+                if seconds > max_gap:
+                    raise InputError(
+                        f"{name}: {label(a + 1)}: {shown}: no value from {format_time(times[a])} ({label(a)}) to "
+                        f"{format_time(times[b])} ({label(b)}): a gap of {_duration_text(seconds)}, longer than "
+                        f"max_gap = {_duration_text(max_gap) if max_gap else '0s'}"
+                    )
+                gaps.append((seconds, a, b, shown))
+            values = values.copy()
+            values[gap] = np.interp(tsec[gap], tsec[valid], values[valid])
         variables[var] = ("time", values.astype(np.float64, copy=False), dict(spec["attrs"]))
+    if gaps:
+        longest = max(gaps, key=lambda g: g[0])
+        count = len(gaps)
+        notes.insert(0, (
+            f"{name}: filled {count} gap{'s' if count != 1 else ''} by linear interpolation in time (longest "
+            f"{_duration_text(longest[0])}, {format_time(times[longest[1]])} to {format_time(times[longest[2]])} "
+            f"in {longest[3]}; max_gap = {_duration_text(max_gap)})"
+        ))
+    attrs = dict(attrs)
+    attrs["gaps_filled"] = len(gaps)
+    attrs["longest_gap_filled"] = float(max((g[0] for g in gaps), default=0.0))
+    for note in notes:
+        warnings.warn(note, ForcingWarning, stacklevel=3)
     return xr.Dataset(variables, coords={"time": ("time", times, dict(_TIME_ATTRS))}, attrs=attrs)
+
+
+# --------------------------------------------------------------------------- CF NetCDF
+
+
+def read_forcing_netcdf(
+    path: str | Path, column_map: Mapping[str, str] | None = None, max_gap: str | float = DEFAULT_MAX_GAP
+) -> xr.Dataset:
+    """Read a CF NetCDF forcing file into the same Dataset as the CSV reader.
+
+    Each of our variables is the file's variable whose ``standard_name`` is one
+    of :data:`CF_STANDARD_NAMES` (or the variable named by ``column_map``).
+    Values are converted from the ``units`` attribute with :data:`NETCDF_UNITS`:
+    temperatures in ``K`` or ``degC`` (also ``Celsius``, ``deg_C``, ...);
+    relative humidity in ``%`` or ``1`` (fraction, times 100); cloud fraction in
+    ``1`` (a missing ``units`` is taken as ``1``) or ``%`` (divided by 100); snow
+    depth in ``m``, ``cm`` or ``mm``; radiative and ocean heat fluxes in
+    ``W m-2``; wind in ``m s-1``; snowfall in ``kg m-2 s-1`` (``mm s-1`` is the
+    same for water) or ``mm h-1`` (divided by 3600).  Fill values (decoded to
+    NaN by xarray) are gaps, filled as in the CSV reader.  Time is decoded by
+    xarray from its CF ``units``; it must be one dimension and a standard
+    calendar.  Variables may have extra dimensions of length 1 (e.g. a station).
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The NetCDF file (NetCDF-3 or NetCDF-4). [1]
+    column_map : dict, optional
+        Our variable name -> the file's variable name, used instead of the
+        ``standard_name`` search (also ``"time"``). [1]
+    max_gap : str or float, optional
+        Longest gap bridged by linear interpolation (text or seconds). [s]
+
+    Returns
+    -------
+    forcing : xarray.Dataset
+        As :func:`read_forcing`; ``title`` is the global ``title`` attribute,
+        ``ignored_columns`` the data variables not read, ``source_columns`` the
+        ``ours=variable`` pairs and ``sha256`` the digest of the file bytes.
+
+    Raises
+    ------
+    InputError
+        One line naming the file and the variable, standard name or units.
+    """
+    name = str(path)
+    gap_s = _max_gap_seconds(max_gap, name)
+    try:
+        raw = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{name}: file not found") from None
+    except IsADirectoryError:
+        raise InputError(f"{name}: is a directory, not a forcing file") from None
+    except OSError as err:
+        raise InputError(f"{name}: cannot read: {err.strerror}") from None
+    known = tuple(CF_STANDARD_NAMES)
+    for ours in column_map or {}:
+        if ours not in known:
+            raise InputError(f"{name}: column_map: unknown variable {ours!r}; known variables: {_names(known)}")
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            ds = xr.open_dataset(path, decode_times=True, mask_and_scale=True)
+            ds.load()
+    except Exception as err:  # noqa: BLE001 - any failure of the NetCDF stack is a bad file
+        message = " ".join(str(err).split())[:200]
+        raise InputError(f"{name}: not a readable NetCDF file ({type(err).__name__}: {message})") from None
+    with ds:
+        return _from_netcdf(ds, raw, name, dict(column_map or {}), gap_s)
+
+
+def _find_variable(ds: xr.Dataset, ours: str, column_map: dict[str, str], name: str, required: bool) -> str | None:
+    everything = list(ds.variables)
+    if ours in column_map:
+        theirs = column_map[ours]
+        if theirs not in ds.variables:
+            raise InputError(f"{name}: column_map names variable {theirs!r} for {ours!r}, but the file has no such "
+                             f"variable; variables found: {_names(everything)}")
+        return theirs
+    accepted = CF_STANDARD_NAMES[ours]
+    hits = [v for v in everything if str(ds[v].attrs.get("standard_name", "")).strip() in accepted]
+    if ours == "time" and not hits:
+        hits = [v for v in ds.coords if str(ds[v].attrs.get("axis", "")).upper() == "T"]
+        if not hits and "time" in ds.variables:
+            hits = ["time"]
+    if len(hits) > 1:
+        raise InputError(f"{name}: variables {_names(hits)} all have standard_name "
+                         f"{' or '.join(repr(a) for a in accepted)}; choose one with a column_map ({ours}=NAME)")
+    if not hits:
+        if required:
+            raise InputError(f"{name}: no variable with standard_name {' or '.join(repr(a) for a in accepted)} "
+                             f"for {ours}; variables found: {_names(everything)} (a column_map can name one)")
+        return None
+    return hits[0]
+
+
+def _from_netcdf(ds: xr.Dataset, raw: bytes, name: str, column_map: dict[str, str], max_gap: float) -> xr.Dataset:
+    tvar = _find_variable(ds, "time", column_map, name, True)
+    tda = ds[tvar]
+    if tda.ndim != 1:
+        raise InputError(f"{name}: time variable {tvar!r} must have one dimension, found dimensions {tda.dims}")
+    if tda.dtype.kind != "M":
+        raise InputError(f"{name}: time variable {tvar!r} could not be decoded to dates (units "
+                         f"{tda.encoding.get('units', tda.attrs.get('units'))!r}, calendar "
+                         f"{tda.encoding.get('calendar', tda.attrs.get('calendar', 'standard'))!r}); "
+                         "expected CF units such as 'hours since 2026-10-01 00:00:00' and a standard calendar")
+    tdim = tda.dims[0]
+    times = tda.values.astype("datetime64[ns]")
+    nat = np.isnat(times)
+    if nat.any():
+        raise InputError(f"{name}: time variable {tvar!r}: time index {int(np.flatnonzero(nat)[0])} is missing")
+
+    def label(i: int) -> str:
+        return f"time index {i}"
+
+    data: dict[str, np.ndarray] = {}
+    used: dict[str, str] = {}
+    for ours, spec in VARIABLES.items():
+        theirs = _find_variable(ds, ours, column_map, name, spec["required"])
+        if theirs is None:
+            continue
+        if theirs == tvar or theirs in used.values():
+            other = "time" if theirs == tvar else next(o for o, t in used.items() if t == theirs)
+            raise InputError(f"{name}: variable {theirs!r} is used for both {ours!r} and {other!r}")
+        da = ds[theirs]
+        extra = [d for d in da.dims if d != tdim and da.sizes[d] != 1]
+        if tdim not in da.dims or extra:
+            raise InputError(f"{name}: variable {theirs!r} ({ours}): expected dimension ({tdim!r},) "
+                             f"(extra dimensions of length 1 allowed), found {da.dims} with sizes "
+                             f"{tuple(da.shape)}")
+        da = da.squeeze([d for d in da.dims if d != tdim], drop=True)
+        if da.dtype.kind not in "fiu":
+            raise InputError(f"{name}: variable {theirs!r} ({ours}): values are not numbers (type {da.dtype})")
+        if "units" in da.attrs:
+            units = " ".join(str(da.attrs["units"]).split())
+        elif ours == "cloud_fraction":
+            units = "1"
+        else:
+            raise InputError(f"{name}: variable {theirs!r} ({ours}) has no units attribute; expected one of "
+                             f"{_names(NETCDF_UNITS[ours])}")
+        table = NETCDF_UNITS[ours]
+        if units not in table:
+            raise InputError(f"{name}: variable {theirs!r} ({ours}): units {units!r} are not known for {ours}; "
+                             f"expected one of {_names(table)}")
+        scale, offset = table[units]
+        with np.errstate(all="ignore"):
+            values = np.asarray(da.values, dtype=np.float64)
+            if scale != 1.0 or offset != 0.0:
+                values = values * scale + offset
+        data[ours] = values
+        used[ours] = theirs
+    where = {v: "variable " + _shown(t, v) for v, t in used.items()}
+    taken = set(used.values()) | {tvar}
+    attrs = {
+        "source_file": name,
+        "sha256": hashlib.sha256(raw).hexdigest(),
+        "title": " ".join(str(ds.attrs.get("title", "")).split()),
+        "ignored_columns": ",".join(str(v) for v in ds.data_vars if v not in taken),
+        "source_columns": ",".join(f"{v}={t}" for v, t in {"time": tvar, **used}.items()),
+    }
+    return _build_dataset(times, data, attrs, name, label, where, max_gap)
+
+
+# --------------------------------------------------------------------------- arrays
 
 
 def forcing_from_arrays(time: Any, air_temperature: Any, **others: Any) -> xr.Dataset:
     """Build a forcing Dataset in memory, checked like :func:`read_forcing`.
+
+    Arrays get no gap filling: a NaN value is an error.
 
     Parameters
     ----------
@@ -269,8 +745,9 @@ def forcing_from_arrays(time: Any, air_temperature: Any, **others: Any) -> xr.Da
     air_temperature : array_like
         Air temperature at each time. [degC]
     **others : array_like
-        Optional ``surface_temperature`` [degC] and ``ocean_heat_flux`` [W m-2];
-        ``None`` values are skipped.
+        Optional variables of :data:`VARIABLES` in their units (e.g.
+        ``surface_temperature`` [degC], ``ocean_heat_flux`` [W m-2],
+        ``wind_speed`` [m s-1]); ``None`` values are skipped.
 
     Returns
     -------
@@ -302,8 +779,10 @@ def forcing_from_arrays(time: Any, air_temperature: Any, **others: Any) -> xr.Da
     digest = hashlib.sha256(times.astype("int64").tobytes())
     for var in sorted(data):
         digest.update(var.encode() + data[var].tobytes())
-    attrs = {"source_file": name, "sha256": digest.hexdigest(), "title": "", "ignored_columns": ""}
-    return _build_dataset(times, data, attrs, name, label, {})
+    attrs = {"source_file": name, "sha256": digest.hexdigest(), "title": "", "ignored_columns": "",
+             "source_columns": ""}
+    where = {var: f"column {var!r}" for var in data}
+    return _build_dataset(times, data, attrs, name, label, where, None)
 
 
 def _times_from_any(time: Any, name: str, label: Callable[[int], str]) -> np.ndarray:

@@ -11,14 +11,14 @@ import numpy as np
 import pytest
 
 from icecolumn.errors import InputError
-from icecolumn.forcing import VARIABLES, forcing_from_arrays, read_forcing
+from icecolumn.forcing import VARIABLES, ForcingWarning, forcing_from_arrays, read_forcing
 
 SAMPLE = Path(__file__).resolve().parent.parent / "forcing_samples" / "station_winter.csv"
 
 GOOD = """\
 # Test station (invented), hourly
 # second comment
-time,air_temperature,wind_speed,ocean_heat_flux
+time,air_temperature,wind_dir,ocean_heat_flux
 2026-10-01T00:00,-5.0,3.1,2.0
 2026-10-01T01:00,-5.5,2.9,2.5
 2026-10-01T02:00,-6.25,,3.0
@@ -61,9 +61,10 @@ def test_reads_good_file(tmp_path):
     assert ds["ocean_heat_flux"].attrs["units"] == "W m-2"
     assert ds["air_temperature"].attrs["long_name"]
     assert "surface_temperature" not in ds
-    # the ignored column may have empty cells: it is not read
-    assert "wind_speed" not in ds
-    assert ds.attrs["ignored_columns"] == "wind_speed"
+    # the ignored column may have empty cells, even in the last row: it is not read
+    assert "wind_dir" not in ds
+    assert ds.attrs["ignored_columns"] == "wind_dir"
+    assert ds.attrs["gaps_filled"] == 0 and ds.attrs["longest_gap_filled"] == 0.0
     assert ds.attrs["title"] == "Test station (invented), hourly"
     assert ds.attrs["source_file"] == str(path)
 
@@ -163,11 +164,11 @@ def test_column_map_to_missing_column(tmp_path):
     path = write(tmp_path, GOOD)
     message = error_of(path, column_map={"air_temperature": "Tair_C"})
     assert "line 3: column_map names column 'Tair_C' for 'air_temperature'" in message
-    assert "columns found: 'time', 'air_temperature', 'wind_speed', 'ocean_heat_flux'" in message
+    assert "columns found: 'time', 'air_temperature', 'wind_dir', 'ocean_heat_flux'" in message
 
 
 def test_column_map_unknown_variable(tmp_path):
-    message = error_of(write(tmp_path, GOOD), column_map={"wind": "wind_speed"})
+    message = error_of(write(tmp_path, GOOD), column_map={"wind": "wind_dir"})
     assert "column_map: unknown variable 'wind'" in message
 
 
@@ -208,9 +209,20 @@ def test_duplicate_time(tmp_path):
     assert "line 4: duplicate time 2026-10-01T01:00:00Z (also on line 3)" in message
 
 
-def test_empty_cell(tmp_path):
+def test_empty_cell_short_gap_is_interpolated_with_a_warning(tmp_path):
+    # an empty cell was an error before gap filling; a short gap is now filled linearly
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T01:00,", "2026-10-01T02:00,-7"]))
+    with pytest.warns(ForcingWarning, match="filled 1 gap by linear interpolation"):
+        ds = read_forcing(path)
+    np.testing.assert_allclose(ds["air_temperature"].values, [-5.0, -6.0, -7.0])
+    assert ds.attrs["gaps_filled"] == 1
+
+
+def test_empty_cell_gap_longer_than_max_gap(tmp_path):
     path = write(tmp_path, simple(["2026-10-01T00:00,-5", "2026-10-01T01:00,", "2026-10-01T02:00,-5"]))
-    assert error_of(path) == f"{path}: line 3: column 'air_temperature' is empty"
+    message = error_of(path, max_gap="1h")
+    assert message.startswith(f"{path}: line 3: column 'air_temperature': no value from 2026-10-01T00:00:00Z")
+    assert "to 2026-10-01T02:00:00Z (line 4): a gap of 2h, longer than max_gap = 1h" in message
 
 
 def test_empty_time_cell(tmp_path):
@@ -335,7 +347,7 @@ def test_forcing_from_arrays_errors(kwargs, fragment):
 def test_variables_table_consistent():
     assert VARIABLES["air_temperature"]["required"]
     for var, spec in VARIABLES.items():
-        assert spec["attrs"]["units"] in {"degC", "W m-2"}, var
+        assert spec["attrs"]["units"] in {"degC", "W m-2", "m s-1", "%", "1", "m", "kg m-2 s-1"}, var
         lo, hi = spec["range"]
         assert lo < hi
 
@@ -379,3 +391,156 @@ def test_packaged_sample_is_identical_to_forcing_samples():
     a = (root / "forcing_samples" / "station_winter.csv").read_bytes()
     b = (root / "icecolumn" / "samples" / "station_winter.csv").read_bytes()
     assert a == b
+
+
+# ---------------------------------------------------------------- station variables and gaps
+
+HOURS = [f"2026-10-01T{h:02d}:00Z" for h in range(24)]
+
+
+def table(header: str, cells: list[str]) -> str:
+    """Hourly rows from 2026-10-01T00Z with the given cells after the time."""
+    return simple([f"{t},{c}" for t, c in zip(HOURS, cells)], header)
+
+
+def test_station_variables_read_in_their_units(tmp_path):
+    header = ("time,air_temperature,wind_speed,relative_humidity,shortwave_down,longwave_down,"
+              "cloud_fraction,snow_thickness,snowfall,ocean_heat_flux,surface_temperature")
+    cells = ["-10,5.5,85,0,210,0.8,0.12,1e-5,3,-12", "-11,6.0,90,12,220,0.4,0.13,0,4,-13"]
+    ds = read_forcing(write(tmp_path, table(header, cells)))
+    np.testing.assert_array_equal(ds["wind_speed"].values, [5.5, 6.0])
+    np.testing.assert_array_equal(ds["relative_humidity"].values, [85.0, 90.0])
+    np.testing.assert_array_equal(ds["cloud_fraction"].values, [0.8, 0.4])
+    np.testing.assert_array_equal(ds["snowfall"].values, [1e-5, 0.0])
+    assert ds["relative_humidity"].attrs["units"] == "%"
+    assert "liquid water" in ds["relative_humidity"].attrs["long_name"]
+    assert ds["cloud_fraction"].attrs["units"] == "1"
+    assert ds["snow_thickness"].attrs["units"] == "m"
+    assert ds["snowfall"].attrs["units"] == "kg m-2 s-1"
+    assert ds.attrs["ignored_columns"] == ""
+
+
+def test_negative_wind_names_the_line(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,wind_speed", ["-5,3", "-5,-0.5", "-5,2"]))
+    assert error_of(path) == f"{path}: line 3: column 'wind_speed': -0.5 m s-1 is outside 0..120 m s-1"
+
+
+@pytest.mark.parametrize("var", ["shortwave_down", "longwave_down", "snow_thickness", "snowfall"])
+def test_negative_non_negative_variables(tmp_path, var):
+    path = write(tmp_path, table(f"time,air_temperature,{var}", ["-5,0", "-5,0", "-5,-1"]))
+    assert error_of(path).startswith(f"{path}: line 4: column '{var}': -1 ")
+
+
+def test_relative_humidity_103_clipped_with_warning(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,relative_humidity", ["-5,99", "-5,103", "-5,104.5"]))
+    with pytest.warns(ForcingWarning) as record:
+        ds = read_forcing(path)
+    np.testing.assert_array_equal(ds["relative_humidity"].values, [99.0, 100.0, 100.0])
+    message = str(record[0].message)
+    assert "2 values between 100 and 105 % clipped to 100 % (first on line 3: 103 %)" in message
+
+
+def test_relative_humidity_106_is_an_error(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,relative_humidity", ["-5,99", "-5,106"]))
+    message = error_of(path)
+    assert message.startswith(f"{path}: line 3: column 'relative_humidity': 106 % is outside 0..105 %")
+
+
+def test_relative_humidity_negative_is_an_error(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,relative_humidity", ["-5,-1", "-5,50"]))
+    assert error_of(path).startswith(f"{path}: line 2: column 'relative_humidity': -1 % is outside")
+
+
+def test_cloud_fraction_above_one_is_an_error(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,cloud_fraction", ["-5,0.5", "-5,0.9", "-5,1.2"]))
+    assert error_of(path) == f"{path}: line 4: column 'cloud_fraction': 1.2 is outside 0..1"
+
+
+def test_gap_within_max_gap_is_linear_with_count(tmp_path):
+    # air: 3 empty cells between -4 (00Z) and -8 (04Z); wind: 1 empty cell between 2 and 4
+    cells = ["-4,2", ",", ",4", ",5", "-8,6", "-9,7"]
+    path = write(tmp_path, table("time,air_temperature,wind_speed", cells))
+    with pytest.warns(ForcingWarning, match=r"filled 2 gaps by linear interpolation in time \(longest 4h") as rec:
+        ds = read_forcing(path)
+    assert len([w for w in rec if issubclass(w.category, ForcingWarning)]) == 1
+    np.testing.assert_allclose(ds["air_temperature"].values, [-4, -5, -6, -7, -8, -9])
+    np.testing.assert_allclose(ds["wind_speed"].values, [2, 3, 4, 5, 6, 7])
+    assert ds.attrs["gaps_filled"] == 2
+    assert ds.attrs["longest_gap_filled"] == 4 * 3600.0
+
+
+def test_gap_longer_than_max_gap_names_column_and_period(tmp_path):
+    cells = ["-4,2"] + [",3"] * 7 + ["-8,6"]
+    path = write(tmp_path, table("time,air_temperature,wind_speed", cells))
+    assert error_of(path) == (
+        f"{path}: line 3: column 'air_temperature': no value from 2026-10-01T00:00:00Z (line 2) to "
+        f"2026-10-01T08:00:00Z (line 10): a gap of 8h, longer than max_gap = 6h"
+    )
+    with pytest.warns(ForcingWarning):
+        ds = read_forcing(path, max_gap="8h")
+    np.testing.assert_allclose(ds["air_temperature"].values, np.linspace(-4, -8, 9))
+    with pytest.warns(ForcingWarning):
+        assert read_forcing(path, max_gap=8 * 3600).attrs["gaps_filled"] == 1
+
+
+def test_missing_rows_within_max_gap_warn_and_keep_rows(tmp_path):
+    rows = [f"{t},-5" for t in HOURS[:4]] + [f"{t},-5" for t in HOURS[7:12]]  # 03Z -> 07Z: 4 h step
+    path = write(tmp_path, simple(rows))
+    with pytest.warns(ForcingWarning, match="filled 1 gap .*longest 4h, 2026-10-01T03:00:00Z to 2026-10-01T07:00:00Z"):
+        ds = read_forcing(path)
+    assert ds.sizes["time"] == 9 and ds.attrs["gaps_filled"] == 1
+
+
+def test_missing_rows_longer_than_max_gap(tmp_path):
+    rows = [f"{t},-5" for t in HOURS[:4]] + [f"{t},-5" for t in HOURS[12:16]]  # 03Z -> 12Z
+    path = write(tmp_path, simple(rows))
+    message = error_of(path)
+    assert message == (
+        f"{path}: line 5: no rows from 2026-10-01T03:00:00Z to 2026-10-01T12:00:00Z (line 6) in any column: "
+        "a gap of 9h, longer than max_gap = 6h (median step 1h)"
+    )
+
+
+def test_max_gap_zero_fills_nothing(tmp_path):
+    path = write(tmp_path, table("time,air_temperature", ["-5", "", "-5"]))
+    assert "longer than max_gap = 0s" in error_of(path, max_gap=0)
+
+
+@pytest.mark.parametrize("bad", ["6 parsecs", -1.0, float("nan"), True, None])
+def test_bad_max_gap(tmp_path, bad):
+    path = write(tmp_path, GOOD)
+    assert "max_gap" in error_of(path, max_gap=bad)
+
+
+@pytest.mark.parametrize("cells, where", [([",1", "-5,2", "-5,3"], "start"), (["-5,1", "-5,2", ",3"], "end")])
+def test_gap_at_the_edge_cannot_be_interpolated(tmp_path, cells, where):
+    path = write(tmp_path, table("time,air_temperature,wind_speed", cells))
+    message = error_of(path)
+    assert "column 'air_temperature' is empty" in message and where in message
+    assert "a gap can only be filled between two values" in message
+
+
+def test_optional_column_entirely_empty_is_left_out(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,wind_speed", ["-5,", "-6,", "-7,"]))
+    with pytest.warns(ForcingWarning, match="column 'wind_speed' has no values; left out"):
+        ds = read_forcing(path)
+    assert "wind_speed" not in ds
+
+
+def test_nan_text_is_not_a_gap(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,wind_speed", ["-5,1", "-5,nan", "-5,3"]))
+    assert "line 3: column 'wind_speed': nan is not a finite number" in error_of(path)
+
+
+def test_year_outside_datetime64_range(tmp_path):
+    path = write(tmp_path, simple(["2026-10-01T00:00,-5", "9999-10-01T01:00,-5"]))
+    assert "line 3: column 'time': '9999-10-01T01:00': year outside the supported" in error_of(path)
+
+
+def test_forcing_from_arrays_accepts_station_variables():
+    ds = forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, -6.0], wind_speed=[1.0, 2.0])
+    np.testing.assert_array_equal(ds["wind_speed"].values, [1.0, 2.0])
+    with pytest.raises(InputError, match=r"<arrays>: index 1: column 'wind_speed': -2 m s-1 is outside"):
+        forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, -6.0], wind_speed=[1.0, -2.0])
+    with pytest.raises(InputError, match="nan is not a finite number"):  # no gap filling for arrays
+        forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, np.nan])

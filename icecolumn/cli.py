@@ -331,7 +331,7 @@ def run_command(
     if not (out.parent if str(out.parent) else Path(".")).is_dir():
         raise InputError(f"{out}: folder {out.parent} does not exist")
     cfg = icecolumn.load_config(config, _overrides(assignments))
-    data = icecolumn.read_forcing(forcing, _column_map(columns))
+    data = icecolumn.read_forcing(forcing, _column_map(columns), max_gap=cfg.forcing.max_gap)
     previous = None
     if restart_from is not None:
         from .plotting import open_output
@@ -506,7 +506,7 @@ def config_command(
 
 # Commands that live in their own modules register themselves on ``app``: each module
 # ``icecolumn/cli_<name>.py`` has ``register(app)``.  Add a module name here to enable it.
-_COMMAND_MODULES: tuple[str, ...] = ()
+_COMMAND_MODULES: tuple[str, ...] = ("check", "forecast")
 for _name in _COMMAND_MODULES:
     importlib.import_module(f"icecolumn.cli_{_name}").register(app)
 

@@ -1,0 +1,157 @@
+"""Calibration against drill-hole thickness (icecolumn/calibrate.py) and the calibrate command.
+
+Twin experiments: the "observations" are made by the model itself (true ocean heat flux
+5 W m-2) on the INVENTED sample winter, every 10 days, with invented Gaussian noise of
+1 cm (fixed seeds), from 10 cm of ice over 120 days.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+from typer.testing import CliRunner
+
+import icecolumn as ic
+from icecolumn.calibrate import _lebedev_baseline, calibrate, write_fitted_config
+from icecolumn.cli import app
+from icecolumn.errors import InputError
+
+TRUE_FLUX = 5.0  # W m-2, the twin's truth (invented)
+NOISE = 0.01  # m, invented observation noise
+runner = CliRunner()
+
+
+@pytest.fixture(scope="module")
+def setup(sample_forcing):
+    cfg = (ic.default_config().replace("grid", layers=12).replace("output", interval="1D")
+           .replace("initial", ice_thickness=0.10).replace("run", start="2026-11-01T00:00", end="2027-03-01T00:00"))
+    truth = ic.run(sample_forcing, cfg.replace("ocean", heat_flux=TRUE_FLUX))
+    times = truth["time"].values[10::10]  # every 10 days, 12 observations
+    h = truth["ice_thickness"].sel(time=times).values
+    return sample_forcing, cfg, times, h
+
+
+def _obs(times, h):
+    return xr.Dataset({"ice_thickness": ("time", h)}, coords={"time": times}, attrs={"source_file": "<twin>"})
+
+
+def test_twin_experiment_recovers_the_ocean_heat_flux(setup):
+    forcing, cfg, times, h = setup
+    rng = np.random.default_rng(20270101)
+    obs = _obs(times, h + NOISE * rng.standard_normal(h.size))
+    r = calibrate(forcing, obs, cfg)  # first guess: the default 2 W m-2
+    assert cfg.ocean.heat_flux == 2.0
+    q, s = float(r.values[0]), float(r.sigma[0])
+    print(f"\ntwin: fitted {q:.3f} +/- {s:.3f} W m-2, rmse {r.rmse:.4f} m, skill {r.skill:.2f}")
+    assert abs(q - TRUE_FLUX) <= 2 * s
+    assert 0 < s <= 0.5
+    assert r.rmse == pytest.approx(np.sqrt(np.mean(r.dataset["residual"].values ** 2)))
+    assert r.rmse < 2 * NOISE
+    assert r.config.ocean.heat_flux == pytest.approx(q)
+    assert np.isclose(r.covariance[0, 0], s**2)
+
+
+def test_noise_free_twin_is_exact(setup):
+    forcing, cfg, times, h = setup
+    r = calibrate(forcing, _obs(times, h), cfg)
+    assert r.values[0] == pytest.approx(TRUE_FLUX, abs=1e-3)
+    assert r.rmse < 1e-5
+
+
+def test_two_parameter_fit_recovers_both(setup):
+    forcing, cfg, times, h = setup
+    truth_cfg = cfg.replace("ocean", heat_flux=TRUE_FLUX).replace("surface", heat_transfer_coefficient=15.0)
+    truth = ic.run(forcing, truth_cfg)
+    hh = truth["ice_thickness"].sel(time=times).values
+    r = calibrate(forcing, _obs(times, hh), cfg, extra="surface.heat_transfer_coefficient")
+    assert r.names == ("ocean.heat_flux", "surface.heat_transfer_coefficient")
+    assert r.values[0] == pytest.approx(TRUE_FLUX, abs=0.05)
+    assert r.values[1] == pytest.approx(15.0, abs=0.2)
+    assert np.allclose(r.covariance, r.covariance.T)
+    assert np.allclose(np.diag(r.correlation), 1.0) and abs(r.correlation[0, 1]) <= 1.0
+
+
+def test_lebedev_baseline_fits_its_own_law(sample_forcing):
+    # Lebedev (1938): h[cm] = 1.33 theta^0.58 (checked against a secondary source, see growth_laws.py)
+    from icecolumn.growth_laws import cumulative_fdd_at
+
+    start = np.datetime64("2026-11-01T00:00", "ns")
+    t = start + np.arange(1, 9) * np.timedelta64(12, "D")
+    f = sample_forcing
+    theta = cumulative_fdd_at(t, f["time"].values[f["time"].values >= start],
+                              f["air_temperature"].values[f["time"].values >= start])
+    h0 = 0.1
+    a_true = 0.0133
+    h = a_true * (theta + (h0 / a_true) ** (1 / 0.58)) ** 0.58
+    a, pred = _lebedev_baseline(f, start, t, h, h0)
+    assert a == pytest.approx(a_true, rel=1e-4)
+    assert np.allclose(pred, h, atol=1e-6)
+
+
+def test_fitted_config_and_dataset_round_trip(setup, tmp_path):
+    forcing, cfg, times, h = setup
+    r = calibrate(forcing, _obs(times, h + 0.005 * np.sin(np.arange(h.size))), cfg)
+    p = write_fitted_config(r, tmp_path / "fitted.toml")
+    loaded = ic.load_config(p)
+    assert loaded.ocean.heat_flux == pytest.approx(float(r.values[0]))
+    assert loaded.output.interval == cfg.output.interval  # the user's settings, not the coarse ones
+    with pytest.raises(InputError, match="file exists"):
+        write_fitted_config(r, p)
+    nc = ic.write_netcdf(r.dataset, tmp_path / "cal.nc")
+    back = xr.load_dataset(nc)
+    assert np.allclose(back["covariance"].values, r.covariance)
+    assert np.allclose(back["residual"].values, back["model_ice_thickness"].values - back["observed_ice_thickness"].values)
+    assert back.attrs["skill"] == pytest.approx(r.skill)
+
+
+def test_bad_calibration_inputs(setup):
+    forcing, cfg, times, h = setup
+    with pytest.raises(InputError, match="in time order"):
+        calibrate(forcing, _obs(times[::-1], h[::-1]), cfg)
+    with pytest.raises(InputError, match="needs snow"):
+        calibrate(forcing, _obs(times, h), cfg, extra="properties.snow_conductivity")
+    with pytest.raises(InputError, match="cannot be fitted"):
+        calibrate(forcing, _obs(times, h), cfg, extra="grid.layers")
+    late = times + np.timedelta64(200, "D")
+    with pytest.raises(InputError, match="outside the run"):
+        calibrate(forcing, _obs(late, h), cfg)
+
+
+def test_cli_calibrate(tmp_path, monkeypatch, sample_forcing_path, setup):
+    _, cfg, times, h = setup
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "c.toml").write_text(cfg.to_toml())
+    rows = ["time,ice_thickness"] + [f"{str(t)[:16]}Z,{v:.4f}" for t, v in zip(times, h)]
+    (tmp_path / "obs.csv").write_text("\n".join(rows) + "\n")
+    r = runner.invoke(app, ["calibrate", str(sample_forcing_path), "--obs", "obs.csv", "-c", "c.toml",
+                            "-o", "fit.toml", "--dataset", "cal.nc"])
+    assert r.exit_code == 0, (r.stdout, r.stderr)
+    assert "ocean.heat_flux" in r.stdout and "skill" in r.stdout and ic.CAUTION in r.stdout
+    assert ic.load_config(tmp_path / "fit.toml").ocean.heat_flux == pytest.approx(TRUE_FLUX, abs=0.05)
+    assert (tmp_path / "cal_calibration.png").is_file()
+    # observations out of order: one line, exit 2
+    bad = ["time,ice_thickness"] + rows[2:3] + rows[1:2] + rows[3:]
+    (tmp_path / "bad.csv").write_text("\n".join(bad) + "\n")
+    r2 = runner.invoke(app, ["calibrate", str(sample_forcing_path), "--obs", "bad.csv", "-c", "c.toml",
+                             "-o", "fit2.toml"])
+    assert r2.exit_code == 2
+    err = [ln for ln in r2.stderr.splitlines() if ln.strip()]
+    assert len(err) == 1 and "strictly increasing" in err[0]
+
+
+@pytest.mark.slow
+def test_two_sigma_interval_covers_the_truth(setup):
+    """25 noise draws: 50 would take about 110 s here (about 2.2 s per calibration), 25 keep it near 60 s."""
+    forcing, cfg, times, h = setup
+    rng = np.random.default_rng(4242)
+    draws = 25
+    covered = 0
+    for _ in range(draws):
+        r = calibrate(forcing, _obs(times, h + NOISE * rng.standard_normal(h.size)), cfg)
+        covered += abs(float(r.values[0]) - TRUE_FLUX) <= 2 * float(r.sigma[0])
+    frac = covered / draws
+    print(f"\n2-sigma coverage {covered}/{draws} = {frac:.2f}")
+    assert 0.85 <= frac <= 1.0

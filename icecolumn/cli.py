@@ -463,6 +463,19 @@ def plot_command(
     from .observations import read_profile_points
     from .plotting import open_output, plot_run
 
+    from . import plotting_forecast
+
+    kind = open_output(output_file, require=())  # a forecast or calibration file has other variables
+    if plotting_forecast.is_forecast(kind) or plotting_forecast.is_calibration(kind):
+        obs = None
+        if obs_path is not None and "time" in kind.coords:
+            obs = _read_obs_in_period(obs_path, kind["time"].values[0], kind["time"].values[-1])
+        folder = outdir if outdir is not None else (output_file.parent if str(output_file.parent) else Path("."))
+        files = plotting_forecast.plot_forecast_file(kind, folder, fmt=fmt, obs=obs, stem=output_file.stem)
+        typer.echo("figures written:")
+        for p in files:
+            typer.echo(f"  {p}")
+        return
     ds = open_output(output_file)
     single = ds.isel(member=0) if "member" in ds.dims else ds
     air_time, air_temp = _air_from_run(single)

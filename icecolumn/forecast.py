@@ -15,7 +15,8 @@ How a forecast is built
   e.g. from :func:`icecolumn.read_forcing`) that covers ``start``, every member uses it
   over its period; after its end the difference to the analog fades linearly to zero
   over :data:`BLEND_DAYS` days.
-* **Perturbations** (``perturb=True``), one draw per member, from :data:`PERTURBATIONS`.
+* **Perturbations** (``perturb=True``), one draw per member, from :data:`PERTURBATIONS`,
+  centred on the configured values (so a calibrated configuration centres the ensemble).
   Unperturbed members use the configured values.
 * **Members.**  ``members`` maps onto analog years x draws: with ``n`` analog years,
   ``draws = ceil(members / n)``; member ``i`` uses analog year ``years[i % n]`` (years in
@@ -55,15 +56,19 @@ PERTURBATIONS: dict[str, dict] = {
                               "source": "measurement spread of drill holes; common practice, no source"},
     "initial.snow_thickness": {"distribution": "normal", "sd": 0.03, "minimum": 0.0, "unit": "m",
                                "source": "spread of snow depth around a drill hole; common practice, no source"},
-    "ocean.heat_flux": {"distribution": "uniform", "low": 1.0, "high": 6.0, "unit": "W m-2",
-                        "source": "a few W m-2 under winter landfast ice; common practice, no source"},
-    "properties.snow_conductivity": {"distribution": "uniform", "low": 0.15, "high": 0.35, "unit": "W m-1 K-1",
-                                     "source": "range of effective seasonal-snow conductivities, Sturm et al. "
-                                               "(1997), J. Glaciol. 43(143), 26-41 (from memory)"},
-    "surface.heat_transfer_coefficient": {"distribution": "uniform", "low": 8.0, "high": 20.0,
+    "ocean.heat_flux": {"distribution": "uniform_offset", "low": -2.0, "high": 2.0, "minimum": 0.0,
+                        "unit": "W m-2",
+                        "source": "configured (or calibrated) value +- 2 W m-2: a few W m-2 under winter landfast "
+                                  "ice; common practice, no source"},
+    "properties.snow_conductivity": {"distribution": "uniform_factor", "low": 0.7, "high": 1.3,
+                                     "unit": "W m-1 K-1",
+                                     "source": "configured value x 0.7-1.3, about the 0.15-0.35 W m-1 K-1 spread of "
+                                               "seasonal-snow conductivities in Sturm et al. (1997), J. Glaciol. "
+                                               "43(143), 26-41 (from memory)"},
+    "surface.heat_transfer_coefficient": {"distribution": "uniform_factor", "low": 0.75, "high": 1.5,
                                           "unit": "W m-2 K-1",
-                                          "source": "lower part of the 10-30 W m-2 K-1 of Ashton (Britannica), "
-                                                    "widened to 8; common practice"},
+                                          "source": "configured value x 0.75-1.5, within the 10-30 W m-2 K-1 of "
+                                                    "Ashton (Britannica) for the default 10; common practice"},
 }
 #: Percentiles written to the forecast Dataset [%].
 PERCENTILES = (5.0, 25.0, 50.0, 75.0, 95.0)
@@ -239,10 +244,13 @@ def build_forecast_members(history: xr.Dataset, start, *, ice_thickness: float, 
         if not perturb:
             values[key] = np.full(members, base[key], float)
             continue
-        if spec["distribution"] == "normal":
+        kind = spec["distribution"]
+        if kind == "normal":
             v = base[key] + spec["sd"] * rng.standard_normal(members)
-        else:
-            v = rng.uniform(spec["low"], spec["high"], members)
+        elif kind == "uniform_offset":  # centred on the configured value
+            v = base[key] + rng.uniform(spec["low"], spec["high"], members)
+        else:  # "uniform_factor": a relative spread around the configured value
+            v = base[key] * rng.uniform(spec["low"], spec["high"], members)
         values[key] = np.maximum(v, spec.get("minimum", -np.inf))
     times = np.arange(s, u, _HOUR).astype("datetime64[ns]")
     if times[-1] < u:

@@ -347,11 +347,15 @@ def run(forcing: xr.Dataset, config: Config | None = None, *, progress=None,
     return to_dataset(raw)
 
 
-def run_ensemble(members: Sequence[Member], *, progress=None) -> xr.Dataset:
-    """Run several columns as one batch; the Dataset has a ``member`` dimension."""
+def run_ensemble(members: Sequence[Member], *, progress=None,
+                 profiles: Sequence[InitialProfile | None] | None = None) -> xr.Dataset:
+    """Run several columns as one batch; the Dataset has a ``member`` dimension.
+
+    ``profiles`` optionally gives each member a measured initial profile.
+    """
     from .output import to_dataset
 
-    raw = simulate(members, progress=progress)
+    raw = simulate(members, progress=progress, profiles=profiles)
     return to_dataset(raw, keep_member=True)
 
 

@@ -235,7 +235,8 @@ def _linear_surface_coefficient(ds, source: str) -> float | None:
     if not text:
         return None
     cfg = icecolumn.config.config_from_toml_text(str(text), f"{source}: attribute icecolumn_config")
-    return cfg.surface.heat_transfer_coefficient if cfg.surface.scheme == "linear" else None
+    ran = str(ds.attrs.get("surface_scheme", cfg.surface.scheme))  # the scheme that ran ("auto" resolved)
+    return cfg.surface.heat_transfer_coefficient if ran == "linear" else None
 
 
 def _laws_for(air_time, air_temp, run=None, run_source: str = "", base: float | None = None):
@@ -519,7 +520,7 @@ def config_command(
 
 # Commands that live in their own modules register themselves on ``app``: each module
 # ``icecolumn/cli_<name>.py`` has ``register(app)``.  Add a module name here to enable it.
-_COMMAND_MODULES: tuple[str, ...] = ("check", "forecast")
+_COMMAND_MODULES: tuple[str, ...] = ("ensemble", "check", "forecast")
 for _name in _COMMAND_MODULES:
     importlib.import_module(f"icecolumn.cli_{_name}").register(app)
 

@@ -59,7 +59,7 @@ __all__ = [
 ]
 
 #: Names accepted by ``[surface] scheme``.
-SURFACE_SCHEMES: tuple[str, ...] = ("linear", "prescribed", "energy_balance")
+SURFACE_SCHEMES: tuple[str, ...] = ("auto", "linear", "prescribed", "energy_balance")
 #: Names accepted by ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
 #: Names accepted by ``[drainage] scheme``.
@@ -121,7 +121,7 @@ PARAMETERS: dict[str, Param] = {
     "initial.bulk_salinity": Param(10.0, "g/kg", "uniform bulk salinity of the initial ice (at most [ocean] salinity)", "float", 0.0),
     "ocean.salinity": Param(34.0, "g/kg", "ocean Absolute Salinity (TEOS-10)", "float", 0.0, 45.0),
     "ocean.heat_flux": Param(2.0, "W m-2", "ocean heat flux into the ice base, used when the forcing has none", "float", -50.0, 500.0),
-    "surface.scheme": Param("linear", "", "surface boundary: linear air-to-surface transfer, or surface temperature from the forcing", "choice", choices=SURFACE_SCHEMES),
+    "surface.scheme": Param("auto", "", "surface boundary: energy_balance (needs shortwave_down or cloud_fraction in the forcing), linear air-to-surface transfer, prescribed surface temperature from the forcing, or auto (energy_balance when the forcing allows it, else linear)", "choice", choices=SURFACE_SCHEMES),
     "surface.heat_transfer_coefficient": Param(10.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient (10-30 typical, Ashton in Britannica)", "float", 0.0, None, True),
     "properties.conductivity_model": Param("parallel_yen1991", "", "bulk thermal conductivity of sea ice", "choice", choices=CONDUCTIVITY_MODELS),
     "properties.ice_conductivity": Param(2.03, "W m-1 K-1", "pure-ice conductivity (conductivity_model = constant)", "float", 0.0, None, True),

@@ -76,7 +76,8 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_HTC] = cfg.surface.heat_transfer_coefficient
     p[K.P_KSNOW] = pr.snow_conductivity
     p[K.P_HSNOW] = cfg.initial.snow_thickness
-    p[K.P_SURF] = K.SURFACE_SCHEMES[cfg.surface.scheme]
+    # "auto" is resolved against the forcing by resolve_surface_scheme(); linear until then
+    p[K.P_SURF] = K.SURFACE_SCHEMES.get(cfg.surface.scheme, K.SURFACE_SCHEMES["linear"])
     p[K.P_RTOL] = cfg.solver.rtol
     p[K.P_MAXDT] = parse_duration(cfg.solver.max_step)
     p[K.P_INITDT] = parse_duration(cfg.solver.initial_step)
@@ -85,6 +86,14 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_WIND] = 5.0  # m s-1, used by the energy balance when the forcing has no wind_speed
     drainage_parameters(cfg, p)
     return p
+
+
+def resolve_surface_scheme(cfg: Config, forcing: xr.Dataset) -> str:
+    """The surface scheme that runs: ``auto`` becomes ``energy_balance`` when the forcing has
+    shortwave_down or cloud_fraction (what the balance needs at least), else ``linear``."""
+    if cfg.surface.scheme != "auto":
+        return cfg.surface.scheme
+    return "energy_balance" if ("shortwave_down" in forcing or "cloud_fraction" in forcing) else "linear"
 
 
 def ocean_freezing_temperature(cfg: Config) -> float:
@@ -247,6 +256,9 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     fq = forc[:, K.F_QOCEAN]
     nm = len(members)
     pars = np.ascontiguousarray(np.stack([parameter_vector(m.config) for m in members]))
+    schemes = [resolve_surface_scheme(m.config, m.forcing) for m in members]
+    for i, sch in enumerate(schemes):
+        pars[i, K.P_SURF] = K.SURFACE_SCHEMES[sch]
     ys = np.empty((nm, K.state_size(n)))
     for i, m in enumerate(members):
         if initial_states is not None:
@@ -317,7 +329,7 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
                      air_temperature_mean=air_mean, ocean_heat_flux_mean=fq_mean,
                      ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
                      forcings=[m.forcing for m in members], counters=counters,
-                     extra={"rayleigh_number": rayleigh, "surface_melt_energy": melt_energy,
+                     extra={"surface_schemes": schemes, "rayleigh_number": rayleigh, "surface_melt_energy": melt_energy,
                             "snow_thickness": snow_depth})
 
 

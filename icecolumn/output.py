@@ -186,7 +186,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         "forcing_sha256": str(forcing0.attrs.get("sha256", "")),
         "caution": CAUTION,
         "ice_thickness_definition": THICKNESS_DEFINITION,
-        "surface_scheme": cfg0.surface.scheme,
+        "surface_scheme": "; ".join(sorted(set(raw.extra.get("surface_schemes", [cfg0.surface.scheme])))),
         "drainage_scheme": cfg0.drainage.scheme,
         "solver_steps_accepted": int(raw.counters[:, 0].sum()),
         "solver_steps_rejected": int(raw.counters[:, 1].sum()),

@@ -61,7 +61,7 @@ def test_brief_defaults():
     assert cfg.grid.layers == 40
     assert cfg.initial.ice_thickness == 0.02
     assert cfg.ocean.salinity == 34.0
-    assert cfg.surface.scheme == "linear"
+    assert cfg.surface.scheme == "auto"  # linear unless the forcing carries shortwave or cloud fraction
     assert cfg.properties.conductivity_model == "parallel_yen1991"
     assert cfg.output.interval == "6h"
     assert cfg.solver.rtol == 1e-3
@@ -171,7 +171,7 @@ def test_unknown_key_without_close_match_lists_keys():
         ("[ocean]\nheat_flux = '2'", "cfg.toml: [ocean] heat_flux: expected a number, got '2'"),
         ("[ocean]\nheat_flux = 501", "cfg.toml: [ocean] heat_flux = 501.0: must be at most 500 W m-2"),
         ("[ocean]\nsalinity = nan", "cfg.toml: [ocean] salinity = nan: must be a finite number"),
-        ("[surface]\nscheme = 'foo'", "cfg.toml: [surface] scheme = 'foo': must be one of 'linear', 'prescribed', 'energy_balance'"),
+        ("[surface]\nscheme = 'foo'", "cfg.toml: [surface] scheme = 'foo': must be one of 'auto', 'linear', 'prescribed', 'energy_balance'"),
         ("[surface]\nheat_transfer_coefficient = 0",
          "cfg.toml: [surface] heat_transfer_coefficient = 0.0: must be greater than 0 W m-2 K-1"),
         ("[solver]\nrtol = 0.1", "cfg.toml: [solver] rtol = 0.1: must be less than 0.1"),

@@ -285,20 +285,23 @@ def _fit_text(table, obs, obs_path: Path) -> str:
     ])
 
 
-def _sample_forcing() -> Path:
-    """The bundled sample forcing file."""
-    here = Path(icecolumn.__file__).resolve().parent.parent / "forcing_samples" / SAMPLE_NAME
-    if here.is_file():
-        return here
+def _sample_forcing(name: str = SAMPLE_NAME) -> Path:
+    """A bundled sample file: the repository's forcing_samples/, ./forcing_samples/, or the
+    copy shipped inside the package (the sample winter only)."""
+    here = Path(icecolumn.__file__).resolve().parent.parent / "forcing_samples" / name
+    cwd = Path.cwd() / "forcing_samples" / name
+    for candidate in (here, cwd):
+        if candidate.is_file():
+            return candidate
     try:
-        packaged = importlib.resources.files("icecolumn") / "samples" / SAMPLE_NAME
+        packaged = importlib.resources.files("icecolumn") / "samples" / name
         if packaged.is_file():
             return Path(str(packaged))
     except (ModuleNotFoundError, FileNotFoundError, NotADirectoryError):
         pass
-    raise InputError(f"the bundled sample {SAMPLE_NAME} was not found (looked in {here.parent} and in the "
-                     "package folder icecolumn/samples); reinstall icecolumn or run 'icecolumn run' on your "
-                     "own forcing file")
+    raise InputError(f"the bundled sample {name} was not found (looked in {here.parent}, {cwd.parent} and in "
+                     "the package folder icecolumn/samples); run from the icecolumn source folder, or run "
+                     "'icecolumn run' on your own forcing file")
 
 
 # --------------------------------------------------------------------------- commands
@@ -361,6 +364,8 @@ def demo_command(
     outdir: Annotated[Path, typer.Option("-o", "--output-dir", help="Folder for the demo files.")]
     = Path("icecolumn_demo"),
     overwrite: Annotated[bool, typer.Option("--overwrite", help="Replace existing files in the folder.")] = False,
+    forecast: Annotated[bool, typer.Option("--forecast", help="Also run a forecast from the bundled (invented) "
+                                           "station history, drill hole, thermistor and core.")] = False,
 ) -> None:
     """Run the bundled sample winter with the default configuration, with figures."""
     from .laws import write_laws_csv
@@ -390,6 +395,16 @@ def demo_command(
     typer.echo("files written:")
     for p in [nc, planned[1], *figures]:
         typer.echo(f"  {p}")
+    if forecast:
+        from .cli_forecast import forecast_command
+
+        typer.echo("\nforecast demo (invented station history; 40 members to keep the demo short):")
+        forecast_command(history=_sample_forcing("station_history.csv"), start="2027-01-10T00:00",
+                         ice_thickness=0.62, snow_thickness=0.15,
+                         profile=_sample_forcing("thermistor_example.csv"),
+                         salinity=_sample_forcing("core_example.csv"), members=40, seed=1,
+                         output=outdir / "forecast.nc", overwrite=overwrite, threshold=1.2, by="2027-03-15",
+                         obs=_sample_forcing("drillholes.csv"))
 
 
 @app.command("laws")

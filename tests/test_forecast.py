@@ -238,3 +238,20 @@ def test_cli_forecast_bad_inputs(folder):
     _one_line_error(_invoke("forecast", "--history", short, "--start", START, "--until", UNTIL,
                             "--ice-thickness", 0.6), "at least 5 needed")
     assert not any(folder.glob("*.nc"))
+
+
+@pytest.mark.slow
+def test_demo_forecast_variant(tmp_path):
+    """`icecolumn demo --forecast` runs the bundled (invented) history forecast and writes its files."""
+    import xarray as xr
+
+    from icecolumn.cli import main
+
+    out = tmp_path / "demo"
+    assert main(["demo", "-o", str(out), "--forecast"]) == 0
+    assert (out / "forecast_fan.png").stat().st_size > 0
+    with xr.open_dataset(out / "forecast.nc") as ds:
+        assert ds.sizes["member"] == 40
+        p = ds["ice_thickness_percentile"].values
+        assert np.all(np.diff(p[:, 1:], axis=0) >= 0)
+        assert ds.attrs["caution"] == ic.CAUTION

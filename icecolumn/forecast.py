@@ -70,6 +70,11 @@ PERTURBATIONS: dict[str, dict] = {
                                           "source": "configured value x 0.75-1.5, within the 10-30 W m-2 K-1 of "
                                                     "Ashton (Britannica) for the default 10; common practice"},
 }
+#: Future snowfall, as a linear accumulation of snow depth from the measured depth (the model
+#: takes a snow-depth series from the forcing; snowfall physics is not modelled yet).
+SNOWFALL_PERTURBATION = {"distribution": "uniform", "low": 0.0, "high": 0.06, "unit": "m per 30 days",
+                         "source": "0 to 6 cm of snow depth a month; mean Arctic snow depth grows to about "
+                                   "34 cm by May (Warren et al. 1999, J. Climate 12, 1814), about 4 cm a month"}
 #: Percentiles written to the forecast Dataset [%].
 PERCENTILES = (5.0, 25.0, 50.0, 75.0, 95.0)
 #: Length of the linear blend from the weather forecast to the analog [days].
@@ -252,6 +257,10 @@ def build_forecast_members(history: xr.Dataset, start, *, ice_thickness: float, 
         else:  # "uniform_factor": a relative spread around the configured value
             v = base[key] * rng.uniform(spec["low"], spec["high"], members)
         values[key] = np.maximum(v, spec.get("minimum", -np.inf))
+    # drawn after the table so adding it left the other draws unchanged
+    snow_rate = (rng.uniform(SNOWFALL_PERTURBATION["low"], SNOWFALL_PERTURBATION["high"], members)
+                 if perturb else np.zeros(members))
+    values["snow_accumulation_per_30_days"] = snow_rate
     times = np.arange(s, u, _HOUR).astype("datetime64[ns]")
     if times[-1] < u:
         times = np.append(times, u)
@@ -278,7 +287,12 @@ def build_forecast_members(history: xr.Dataset, start, *, ice_thickness: float, 
             sections.setdefault(sec, {})[name] = float(values[key][i])
         for sec, kw in sections.items():
             c = c.replace(sec, **kw)
-        out_members.append(model.Member(c, forcing_cache[y]))
+        member_forcing = forcing_cache[y]
+        if perturb:  # future snowfall: snow depth grows linearly from the member's initial depth
+            days = ((times - times[0]) / np.timedelta64(1, "D")).astype(float)
+            depth = c.initial.snow_thickness + snow_rate[i] * days / 30.0
+            member_forcing = member_forcing.assign(snow_thickness=("time", depth, {"units": "m"}))
+        out_members.append(model.Member(c, member_forcing))
         profs.append(profile)
     notes = [mapping, f"analog years: {', '.join(str(y) for y, _ in years)}"]
     if weather is not None:
@@ -322,9 +336,10 @@ def add_forecast_summary(ds: xr.Dataset, fm: ForecastMembers) -> xr.Dataset:
                                                     "long_name": "shift of the analog year onto the forecast"})
     for key, v in fm.values.items():
         name = "member_" + key.replace(".", "_")
-        ds[name] = ("member", np.asarray(v, float), {"units": PERTURBATIONS[key]["unit"],
-                                                     "long_name": f"{key} of the member",
-                                                     "source_of_range": PERTURBATIONS[key]["source"]})
+        spec = PERTURBATIONS.get(key, SNOWFALL_PERTURBATION)
+        ds[name] = ("member", np.asarray(v, float), {"units": spec["unit"],
+                                                     "long_name": f"{key.replace('_', ' ')} of the member",
+                                                     "source_of_range": spec["source"]})
     ds.attrs.update({
         "title": f"icecolumn forecast from {str(fm.start)[:16]}",
         "forecast_start": str(fm.start)[:19],

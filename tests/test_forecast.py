@@ -255,3 +255,14 @@ def test_demo_forecast_variant(tmp_path):
         p = ds["ice_thickness_percentile"].values
         assert np.all(np.diff(p[:, 1:], axis=0) >= 0)
         assert ds.attrs["caution"] == ic.CAUTION
+
+
+def test_future_snowfall_is_perturbed(ensemble):
+    # snow depth grows linearly from the measured depth at each member's drawn rate, within the
+    # documented range (Warren et al. 1999 for the scale of the range; see forecast.py)
+    rate = ensemble["member_snow_accumulation_per_30_days"].values
+    spec = F.SNOWFALL_PERTURBATION
+    assert np.all((rate >= spec["low"]) & (rate <= spec["high"])) and np.ptp(rate) > 0
+    snow = ensemble["snow_thickness"].values  # (member, time)
+    days = (ensemble.time.values[-1] - ensemble.time.values[0]) / np.timedelta64(1, "D")
+    np.testing.assert_allclose(snow[:, -1] - snow[:, 0], rate * days / 30.0, rtol=1e-9, atol=1e-12)

@@ -56,7 +56,7 @@ from . import model
 from .errors import IceColumnError, InputError
 from .forcing import read_forcing
 from .output import to_dataset, write_netcdf
-from .textfile import read_user_text
+from .textfile import check_new_output, read_user_text
 from .timeutil import parse_duration
 
 __all__ = ["EnsembleSpec", "load_spec", "run_members", "run_members_to_file", "output_variable_names",
@@ -613,11 +613,7 @@ def run_members_to_file(members: Sequence[model.Member], path, *, overwrite: boo
     import netCDF4
 
     path = Path(path)
-    if path.exists() and not overwrite:
-        raise InputError(f"{path}: file exists; use --overwrite to replace it")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"{path}: folder {folder} does not exist")
+    folder = check_new_output(path, overwrite)
     members, names, jobs, variables, runner, tick, finish = _run_common(
         members, names, batch_size, workers, scheduler, use_dask, processes, progress, variables, interval, source)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)

@@ -18,7 +18,6 @@ the physical line (1-based).
 
 from __future__ import annotations
 
-import csv
 import math
 from pathlib import Path
 
@@ -26,7 +25,7 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .textfile import read_user_text
+from .textfile import read_csv_rows
 from .timeutil import format_time, parse_times
 
 __all__ = ["read_observations"]
@@ -57,28 +56,7 @@ def read_observations(path: str | Path) -> xr.Dataset:
         ``"<file>: line <n>: <problem>"`` for anything wrong with the file.
     """
     name = str(path)
-    text, raw = read_user_text(path, "observation file")
-
-    header: list[str] | None = None
-    header_no = 0
-    rows: list[tuple[int, list[str]]] = []
-    for no, line in enumerate(text.splitlines(), start=1):
-        stripped = line.strip()
-        if not stripped or stripped.startswith("#"):
-            continue
-        try:
-            cells = [c.strip() for c in next(csv.reader([line], strict=True))]
-        except csv.Error as err:
-            raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
-        if header is None:
-            header, header_no = cells, no
-            continue
-        if len(cells) != len(header):
-            raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
-                             f"(line {header_no}), found {len(cells)}")
-        rows.append((no, cells))
-    if header is None:
-        raise InputError(f"{name}: file is empty")
+    header, header_no, rows = read_csv_rows(path, "observation file")
     for col in _REQUIRED:
         if col not in header:
             found = ", ".join(repr(c) for c in header)
@@ -147,22 +125,14 @@ def read_profile_points(path: str | Path, kind: str) -> dict:
     need = {"thermistor": ("time", "depth", "temperature"),
             "core": ("time", "depth_top", "depth_bottom", "salinity")}[kind]
     name = str(path)
-    text, _ = read_user_text(path, f"{kind} file")
-    lines = [(no, ln) for no, ln in enumerate(text.splitlines(), start=1)
-             if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
-        raise InputError(f"{name}: empty file (expected columns {', '.join(need)})")
-    header = [c.strip() for c in next(csv.reader([lines[0][1]]))]
+    header, header_no, rows = read_csv_rows(path, f"{kind} file", ", ".join(need))
     missing = [c for c in need if c not in header]
     if missing:
-        raise InputError(f"{name}: line {lines[0][0]}: missing column(s) {', '.join(missing)} "
+        raise InputError(f"{name}: line {header_no}: missing column(s) {', '.join(missing)} "
                          f"(found {', '.join(header)})")
     idx = {c: header.index(c) for c in need}
     times, cols = [], {c: [] for c in need[1:]}
-    for no, ln in lines[1:]:
-        cells = next(csv.reader([ln]))
-        if len(cells) != len(header):
-            raise InputError(f"{name}: line {no}: expected {len(header)} fields, found {len(cells)}")
+    for no, cells in rows:
         times.append((no, cells[idx["time"]].strip()))
         for c in need[1:]:
             try:

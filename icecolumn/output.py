@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import hashlib
 import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -17,6 +16,7 @@ import xarray as xr
 from . import kernel as K
 from ._version import __version__
 from .errors import InputError
+from .textfile import check_new_output, write_atomically
 
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
            "and follow local ice-safety rules and qualified guidance.")
@@ -202,27 +202,14 @@ def write_netcdf(ds: xr.Dataset, path, overwrite: bool = False) -> Path:
     Raises :class:`InputError` if ``path`` exists and ``overwrite`` is False.
     """
     path = Path(path)
-    if path.exists() and not overwrite:
-        raise InputError(f"{path}: file exists; use --overwrite to replace it")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"{path}: folder {folder} does not exist")
+    check_new_output(path, overwrite)
     enc = {}
     for name, var in ds.variables.items():
         if var.dtype.kind == "f":
             enc[name] = {"dtype": "float64", "zlib": True, "complevel": 1, "_FillValue": np.nan}
     enc["time"] = {"units": f"hours since {str(ds['time'].values[0])[:19].replace('T', ' ')}",
                    "calendar": "standard", "dtype": "float64", "_FillValue": None}
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
-    os.close(fd)
-    try:
-        ds.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    return write_atomically(path, lambda tmp: ds.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc))
 
 
 def file_sha256(path) -> str:

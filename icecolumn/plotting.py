@@ -25,7 +25,6 @@ from __future__ import annotations
 
 import os
 import re
-import tempfile
 import warnings
 from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
@@ -38,6 +37,7 @@ import xarray as xr
 from matplotlib.figure import Figure
 
 from icecolumn.errors import InputError
+from icecolumn.textfile import write_atomically
 
 __all__ = [
     "FIELDS",
@@ -566,17 +566,8 @@ def plot_profiles(ds: xr.Dataset, dates: Sequence[Any] | None, title: str | None
     return fig
 
 
-def _save_atomic(fig: Figure, path: Path, fmt: str) -> Path:
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.stem}.", suffix=f".{fmt}")
-    os.close(fd)
-    try:
-        fig.savefig(tmp, format=fmt, dpi=150)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+def _save_atomic(fig: Figure, path: Path, fmt: str, dpi: int = 150) -> Path:
+    return write_atomically(path, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi), suffix=f".{fmt}")
 
 
 def plot_run(

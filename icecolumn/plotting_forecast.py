@@ -98,18 +98,9 @@ def plot_calibration(cal: xr.Dataset, title: str | None = None) -> Figure:
 
 
 def _save(fig: Figure, path: Path, fmt: str) -> Path:
-    import tempfile
+    from .plotting import _save_atomic
 
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=f".{fmt}", dir=path.parent)
-    os.close(fd)
-    try:
-        fig.savefig(tmp, format=fmt, dpi=130)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    return _save_atomic(fig, path, fmt, dpi=130)
 
 
 def plot_forecast_file(ds: xr.Dataset, outdir, fmt: str = "png", obs: xr.Dataset | None = None,

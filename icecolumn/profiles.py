@@ -30,7 +30,6 @@ point) applies.
 
 from __future__ import annotations
 
-import csv
 import math
 from dataclasses import dataclass
 from pathlib import Path
@@ -39,7 +38,7 @@ import numpy as np
 
 from .errors import InputError
 from .model import InitialProfile
-from .textfile import read_user_text
+from .textfile import read_csv_rows
 from .timeutil import parse_time, parse_times
 
 __all__ = ["ThermistorReading", "CoreReading", "read_thermistor", "read_core", "first_year_salinity",
@@ -83,27 +82,7 @@ class CoreReading:
 
 def _read_table(path, need: tuple[str, ...], what: str) -> tuple[str, dict[str, list[str]], list[int], list[str]]:
     name = str(path)
-    text, _ = read_user_text(path, what)
-    header = None
-    header_no = 0
-    rows: list[tuple[int, list[str]]] = []
-    for no, line in enumerate(text.splitlines(), start=1):
-        s = line.strip()
-        if not s or s.startswith("#"):
-            continue
-        try:
-            cells = [c.strip() for c in next(csv.reader([line], strict=True))]
-        except csv.Error as err:
-            raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
-        if header is None:
-            header, header_no = cells, no
-            continue
-        if len(cells) != len(header):
-            raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
-                             f"(line {header_no}), found {len(cells)}")
-        rows.append((no, cells))
-    if header is None:
-        raise InputError(f"{name}: file is empty (expected columns {', '.join(need)})")
+    header, header_no, rows = read_csv_rows(path, what, ", ".join(need))
     missing = [c for c in need if c not in header]
     if missing:
         raise InputError(f"{name}: line {header_no}: missing column(s) {', '.join(missing)} "

@@ -1,4 +1,4 @@
-"""Reading a user's text file with one-line errors (shared by every reader)."""
+"""User files: reading text with one-line errors, and writing outputs atomically."""
 from __future__ import annotations
 
 from pathlib import Path
@@ -26,3 +26,72 @@ def read_user_text(path, what: str) -> tuple[str, bytes]:
         line = raw[: err.start].count(b"\n") + 1
         raise InputError(f"{name}: line {line}: not UTF-8 text") from None
     return text, raw
+
+
+def read_csv_rows(path, what: str, expected: str = "") -> tuple[list[str], int, list[tuple[int, list[str]]]]:
+    """Header and data rows of a small CSV file (``#`` comment and blank lines skipped).
+
+    Returns ``(header, header_line, [(line_number, cells), ...])``; a malformed line, a row
+    with the wrong number of fields or an empty file is an :class:`InputError` naming the
+    file and line. ``expected`` (e.g. ``"time, ice_thickness"``) is added to the empty-file
+    message.
+    """
+    import csv
+
+    name = str(path)
+    text, _ = read_user_text(path, what)
+    header: list[str] | None = None
+    header_no = 0
+    rows: list[tuple[int, list[str]]] = []
+    for no, line in enumerate(text.splitlines(), start=1):
+        stripped = line.strip()
+        if not stripped or stripped.startswith("#"):
+            continue
+        try:
+            cells = [c.strip() for c in next(csv.reader([line], strict=True))]
+        except csv.Error as err:
+            raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
+        if header is None:
+            header, header_no = cells, no
+            continue
+        if len(cells) != len(header):
+            raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
+                             f"(line {header_no}), found {len(cells)}")
+        rows.append((no, cells))
+    if header is None:
+        raise InputError(f"{name}: file is empty" + (f" (expected columns {expected})" if expected else ""))
+    return header, header_no, rows
+
+
+def check_new_output(path, overwrite: bool = False):
+    """Refuse to replace an existing file unless ``overwrite``; the folder must exist.
+
+    Returns the folder as a :class:`pathlib.Path`.
+    """
+    path = Path(path)
+    if path.exists() and not overwrite:
+        raise InputError(f"{path}: file exists; use --overwrite to replace it")
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"{path}: folder {folder} does not exist")
+    return folder
+
+
+def write_atomically(path, write, suffix: str = ".tmp"):
+    """Call ``write(temporary_path)`` on a temporary file beside ``path``, then rename it
+    to ``path``; on any failure the temporary file is removed and nothing is left behind."""
+    import os
+    import tempfile
+
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix, dir=folder)
+    os.close(fd)
+    try:
+        write(tmp)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+    return path

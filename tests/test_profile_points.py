@@ -26,7 +26,7 @@ def test_core_points_at_section_mid_depth(tmp_path):
 @pytest.mark.parametrize("text,needle", [
     ("time,depth\n2027-01-01,0.1\n", "missing column(s) temperature"),
     ("time,depth,temperature\n2027-01-01,0.1,warm\n", "line 2: column 'temperature'"),
-    ("", "empty file"),
+    ("", "file is empty"),
     ("time,depth,temperature\nnotatime,0.1,-3\n", "line 2"),
 ])
 def test_bad_points_one_line_error(tmp_path, text, needle):

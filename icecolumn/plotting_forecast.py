@@ -9,7 +9,6 @@ Reads Datasets only (never runs the solver); matplotlib's object-oriented API, n
 
 from __future__ import annotations
 
-import os
 from pathlib import Path
 
 import matplotlib.dates as mdates

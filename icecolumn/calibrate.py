@@ -30,6 +30,7 @@ import numpy as np
 import xarray as xr
 from scipy.optimize import least_squares
 
+from ._version import __version__
 from . import model
 from .config import Config, default_config
 from .errors import InputError
@@ -242,7 +243,8 @@ def calibrate(forcing: xr.Dataset, obs: xr.Dataset, config: Config | None = None
                 "parameter": ("parameter", np.array(names, dtype=object)),
                 "parameter_2": ("parameter_2", np.array(names, dtype=object)),
                 "parameter_unit": ("parameter", np.array([FIT_PARAMETERS[k]["unit"] for k in names], dtype=object))},
-        attrs={"title": "icecolumn calibration", "icecolumn_calibration": 1, "rmse_m": rmse, "bias_m": bias,
+        attrs={"Conventions": "CF-1.8", "title": "icecolumn calibration", "icecolumn_version": __version__,
+               "icecolumn_calibration": 1, "rmse_m": rmse, "bias_m": bias,
                "baseline": "Lebedev-type law h = a (theta + theta_0)^0.58, theta = FDD below 0 degC since the run "
                            "start, a fitted to the same observations",
                "baseline_coefficient_a": a, "baseline_rmse_m": rmse_base, "skill": skill,

@@ -90,6 +90,8 @@ def plot_calibration(cal: xr.Dataset, title: str | None = None) -> Figure:
     ax2.set_ylabel("model - obs [cm]")
     ax2.grid(alpha=0.3)
     ax2.xaxis.set_major_formatter(mdates.DateFormatter("%Y-%m-%d"))
+    for lab in ax2.get_xticklabels():
+        lab.set_rotation(20)
     for lab in ax.get_xticklabels():
         lab.set_visible(False)
     _caution(fig)

@@ -132,6 +132,10 @@ def test_cli_calibrate(tmp_path, monkeypatch, sample_forcing_path, setup):
     assert "ocean.heat_flux" in r.stdout and "skill" in r.stdout and ic.CAUTION in r.stdout
     assert ic.load_config(tmp_path / "fit.toml").ocean.heat_flux == pytest.approx(TRUE_FLUX, abs=0.05)
     assert (tmp_path / "cal_calibration.png").is_file()
+    # `icecolumn plot` recognises the calibration file
+    r_plot = runner.invoke(app, ["plot", "cal.nc", "-o", "figs"])
+    assert r_plot.exit_code == 0, (r_plot.stdout, r_plot.stderr)
+    assert (tmp_path / "figs" / "cal_calibration.png").stat().st_size > 0
     # observations out of order: one line, exit 2
     bad = ["time,ice_thickness"] + rows[2:3] + rows[1:2] + rows[3:]
     (tmp_path / "bad.csv").write_text("\n".join(bad) + "\n")

@@ -27,6 +27,10 @@ index   budget component (all cumulative since the start of the run)
         sea water in) [kg m-2]
 6       enthalpy carried by the drainage exchange (sea water in minus brine out) [J m-2]
 7       volume of brine drained to the ocean through channels [m]
+8       salt carried off by surface melt water [kg m-2]
+9       ice melted at the surface [m]
+10      congelation growth at the base [m]
+11      ice melted at the base [m]
 ======  ==========================================================================
 
 Face fluxes (positive downward)
@@ -118,7 +122,7 @@ P_DBETA = 26  # brine density slope d rho / d S_br [kg m-3 (g/kg)-1]
 P_WIND = 27  # wind speed when the forcing has none [m s-1]
 NPAR = 32
 
-NBUDGET = 8
+NBUDGET = 12
 B_E_SURF = 0
 B_E_OCEAN = 1
 B_E_WATER = 2
@@ -127,6 +131,10 @@ B_S_MELT = 4
 B_S_DRAIN = 5
 B_E_DRAIN = 6
 B_V_DRAIN = 7
+B_S_SURFMELT = 8
+B_H_SURFMELT = 9
+B_H_GROW = 10
+B_H_BMELT = 11
 
 SURFACE_SCHEMES = {"linear": 0, "prescribed": 1, "energy_balance": 2}
 
@@ -420,10 +428,34 @@ def _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra):
 
 
 @njit(cache=True)
-def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra):
+def _surface_melt_rate(y, n, par, melt_energy):
+    """Surface melt velocity [m s-1] from the melt energy flux [W m-2] of a surface held at
+    its melting point: the top interface balance a (H_water - H_1) = melt energy, with melt
+    water at 0 degC (H_water = 0).  Throttled to zero at the minimum thickness."""
+    if melt_energy <= 0.0:
+        return 0.0
+    h = y[2 * n]
+    dz = h / n
+    jump = -y[0] / dz
+    jmin = DENOM_MIN * par[P_RHO] * par[P_L]
+    if jump < jmin:
+        jump = jmin
+    a = melt_energy / jump
+    x = (h - H_MIN) / H_MIN
+    if x < 0.0:
+        x = 0.0
+    if x > 1.0:
+        x = 1.0
+    return a * x
+
+
+@njit(cache=True)
+def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra, a_in):
     """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
 
-    ``r`` is the basal velocity used by the advective fluxes. If ``want_cells`` the
+    ``r`` is the basal velocity used by the advective fluxes; ``a_in`` >= 0 is the surface
+    melt rate to use (the implicit stages take the rate of the step's start, which keeps the
+    Newton system smooth; conservation is unaffected), a negative value computes it here. If ``want_cells`` the
     intensive arrays are (re)computed first. Returns the surface temperature and the
     derivative of the surface flux w.r.t. the top temperature.
     """
@@ -435,16 +467,20 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     tf = liquidus_temperature_scalar(par[P_SW])
     hw = rho * par[P_CL] * tf
     mw = rho * par[P_SW] / 1000.0
-    f0, df0, ts, _melt = _surface(temp[0], kc[0], dz, fv, par)
+    f0, df0, ts, melt = _surface(temp[0], kc[0], dz, fv, par)
+    a = _surface_melt_rate(y, n, par, melt) if a_in < 0.0 else a_in
+    used = a * (-y[0] / dz)  # melt energy used: melts ice into water at 0 degC (H = 0)
     for i in range(2 * n + 1 + NBUDGET):
         f[i] = 0.0
-    # face 0 (surface)
-    f[0] += f0
-    # interior faces
+    # face 0 (surface): conduction + melt energy in; melt water (H = 0) and its salt out
+    f[0] += f0 + used
+    s_top = a * y[n] / dz
+    f[n] -= s_top
+    # interior faces; face j moves down at (1 - j/n) a + (j/n) r relative to the ice
     for j in range(1, n):
         kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
         fc = kf * (temp[j - 1] - temp[j]) / dz
-        w = r * j / n
+        w = a * (n - j) / n + r * j / n
         if w > 0.0:
             ae = -w * y[j] / dz
             am = -w * y[n + j] / dz
@@ -462,9 +498,15 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         sm = r * y[2 * n - 1] / dz
     f[n - 1] += fw + r * hw
     f[2 * n - 1] += sm
-    f[2 * n] = r
+    f[2 * n] = r - a
     nb = 2 * n + 1
-    f[nb + B_E_SURF] = f0
+    f[nb + B_E_SURF] = f0 + used
+    f[nb + B_S_SURFMELT] = s_top
+    f[nb + B_H_SURFMELT] = a
+    if r > 0.0:
+        f[nb + B_H_GROW] = r
+    else:
+        f[nb + B_H_BMELT] = -r
     f[nb + B_E_OCEAN] = fw
     f[nb + B_E_WATER] = r * hw
     if sm > 0.0:
@@ -497,12 +539,12 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         f[nb + B_S_DRAIN] = sout - win * mw
         f[nb + B_E_DRAIN] = win * rcl * tf - eout
         f[nb + B_V_DRAIN] = win
-    return ts, df0
+    return ts, df0, a
 
 
 @njit(cache=True)
-def _dr_column(y, r, n, par, col):
-    """d f_cells / d r (the rhs is piecewise linear in r)."""
+def _dr_column(y, r, a, n, par, col):
+    """d f_cells / d r (the rhs is piecewise linear in r); ``a`` is the surface melt rate."""
     rho = par[P_RHO]
     h = y[2 * n]
     dz = h / n
@@ -513,7 +555,7 @@ def _dr_column(y, r, n, par, col):
         col[i] = 0.0
     for j in range(1, n):
         c = j / n
-        if r > 0.0:
+        if a * (n - j) / n + r * j / n > 0.0:
             ae = -c * y[j] / dz
             am = -c * y[n + j] / dz
         else:
@@ -540,7 +582,7 @@ def _brine_content_derivatives(phi, temp, dtde, dtdm, dz, cw):
 
 
 @njit(cache=True)
-def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux):
+def _blocks(y, r, a, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux):
     """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m]).
 
     Drainage enters with its local part only: the exchange of each layer with the layer
@@ -575,7 +617,7 @@ def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr,
         di[j, 0] += b0
         di[j, 1] += b1
         # advection: flux into j-1 from upwind layer
-        w = r * j / n
+        w = a * (n - j) / n + r * j / n
         if w > 0.0:
             c = -w / dz  # d(ae)/d(e_j)
             up[j - 1, 0] -= c
@@ -590,6 +632,7 @@ def _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr,
             lo[j, 3] += c
     if r <= 0.0:
         di[n - 1, 3] += r / dz
+    di[0, 3] -= a / dz  # salt leaving with surface melt water
     if int(par[P_DRAIN]) != 0:
         rho = par[P_RHO]
         rcl = rho * par[P_CL]
@@ -710,7 +753,7 @@ def _err_norm(vec, y, n, par, ny):
 
 @njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc,
-                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc):
+                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in):
     """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r).
 
     ``sc`` (9, n + 1) is scratch space for the perturbed evaluation of the thickness column,
@@ -723,11 +766,11 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         h = y[2 * n]
         if not (h > 0.0):
             return False, r
-        _ts, df0 = _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _ts, df0, atop = _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in)
         # residuals (negated, as Newton rhs)
         for i in range(ncell):
             rhs[0, i] = -(y[i] - base[i] - a_dt * f[i])
-        res_h = -(y[2 * n] - base[2 * n] - a_dt * r)
+        res_h = -(y[2 * n] - base[2 * n] - a_dt * (r - atop))
         hd = _hdot_of_state(y, n, par, fw)
         res_r = -(r - hd)
         # border column for h by finite difference of f at fixed r
@@ -736,7 +779,7 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
             ytmp[i] = y[i]
         ytmp[2 * n] = h + dh
         _rhs(ytmp, r, n, par, fv, fw, ftmp, sc[0, :n], sc[1, :n], sc[2, :n], sc[3, :n], sc[4, :n],
-             sc[5, :n], True, sc[6, :], sc[7, :n], sc[8, :n])
+             sc[5, :n], True, sc[6, :], sc[7, :n], sc[8, :n], a_in)
         for i in range(ncell):
             rhs[1, i] = -a_dt * (ftmp[i] - f[i]) / dh  # B column (h)
         # border row for r: d hdot / d (e_b, m_b, h)
@@ -751,10 +794,10 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         ytmp[2 * n - 1] = y[2 * n - 1]
         ytmp[2 * n] = h + dh
         dhd_dh = (_hdot_of_state(ytmp, n, par, fw) - hd) / dh
-        _dr_column(y, r, n, par, col_r)
+        _dr_column(y, r, atop, n, par, col_r)
         for i in range(ncell):
             rhs[2, i] = -a_dt * col_r[i]  # B column (r)
-        _blocks(y, r, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux)
+        _blocks(y, r, atop, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux)
         _block_solve(n, lo, di, up, rhs, 3, work_m, work_g)
         # Schur complement: unknowns (dh, dr); rows h: dh - a_dt dr = res_h
         # row r: -dhd_de dx_e_b - dhd_dm dx_m_b - dhd_dh dh + dr = res_r
@@ -868,7 +911,8 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
         fw3 = fv3[F_QOCEAN]
         # stage 1 (explicit)
         r1 = _hdot_of_state(y, n, par, fw1)
-        _rhs(y, r1, n, par, fv1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _ts1, _df1, a_in = _rhs(y, r1, n, par, fv1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra,
+                                -1.0)  # surface melt rate of the step's start, kept for its stages
         # stage 2
         for i in range(ny):
             base[i] = y[i] + dt * _D * f1[i]
@@ -877,11 +921,11 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
             y2[2 * n] = y[2 * n]
         ok, r2 = _newton_stage(y2, base, _D * dt, n, par, fv2, fw2, f2, temp, phi, sbr, dtde,
                                dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
-                               wflux, qsink, ra, sc)
+                               wflux, qsink, ra, sc, a_in)
         nsteps_out[2] += 1
         if ok:
             r2 = _hdot_of_state(y2, n, par, fw2)
-            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in)
             for i in range(ny):
                 base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
                 y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
@@ -889,13 +933,13 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
                 y3[2 * n] = y2[2 * n]
             ok, r3 = _newton_stage(y3, base, _D * dt, n, par, fv3, fw3, f3, temp, phi, sbr,
                                    dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
-                                   col_r, 10, wflux, qsink, ra, sc)
+                                   col_r, 10, wflux, qsink, ra, sc, a_in)
         if not ok:
             dt *= 0.25
             nsteps_out[1] += 1
             continue
         r3 = _hdot_of_state(y3, n, par, fw3)
-        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra)
+        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in)
         for i in range(ny):
             err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
         en = _err_norm(err, y, n, par, 2 * n + 1)
@@ -966,7 +1010,7 @@ def diagnose(ys, n, pars, ft, forc, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra,
         _forcing_at(ft, forc[mbr], t, 0, par, fv)
         _f, _d, ts, mx = _surface(temp[mbr, 0], kc[mbr, 0], dz, fv, par)
         tsurf[mbr] = ts
-        melt[mbr] = mx
+        melt[mbr] = _surface_melt_rate(y, n, par, mx) * (-y[0] / dz)  # melt energy used
         snow[mbr] = _snow_depth(fv, par)
         hdot[mbr] = _hdot_of_state(y, n, par, fv[F_QOCEAN])
         _drainage(y, n, par, temp[mbr], phi[mbr], sbr[mbr], wflux, qsink, ra[mbr])

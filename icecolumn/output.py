@@ -21,6 +21,10 @@ from .textfile import check_new_output, write_atomically
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
            "and follow local ice-safety rules and qualified guidance.")
 
+#: Snow density for the hydrostatic draft: about 300 kg m-3 on Arctic sea ice (Warren et al. 1999,
+#: J. Climate 12, 1814).
+SNOW_DENSITY = 300.0  # kg m-3
+
 THICKNESS_DEFINITION = (
     "ice_thickness is the depth of the tracked ice-ocean interface below the ice surface, where the "
     "mushy bottom reaches the ocean freezing temperature (liquid fraction -> 1); the porous bottom is "
@@ -67,7 +71,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v_drain = b[..., K.B_V_DRAIN]
     energy_input = e_surf + e_ocean + e_water + e_drain
     rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
-    salt_released = s_melt + s_drain
+    salt_released = s_melt + s_drain + b[..., K.B_S_SURFMELT]
     frac = (np.arange(n) + 0.5) / n
     depth = h[..., None] * frac
     bounds = np.stack([h[..., None] * (np.arange(n) / n), h[..., None] * ((np.arange(n) + 1) / n)], axis=-1)
@@ -110,7 +114,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["salt_entrained"] = (dims_t, s_ent, _attrs("kg m-2", f"salt in all sea water taken up by the ice, {cum}"))
     v["salt_released"] = (dims_t, salt_released,
                           _attrs("kg m-2", f"net salt that crossed the ice base into the ocean, {cum}",
-                                 comment="sum of salt_released_drainage and salt_released_melt; a brine "
+                                 comment="sum of salt_released_drainage, salt_released_melt and salt_released_surface_melt; a brine "
                                          "exchange counts as brine out minus ocean water in"))
     v["salt_released_drainage"] = (dims_t, s_drain,
                                    _attrs("kg m-2", f"net salt released by gravity drainage, {cum}"))
@@ -140,9 +144,24 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                            "drainage (brine out, sea water in) changes it by the salt exchanged. "
                                            "No virtual salt flux is offered; salt_flux is the real salt flux."))
     v["surface_melt_energy_flux"] = (dims_t, raw.extra["surface_melt_energy"],
-                                     _attrs("W m-2", "energy flux available for surface melt while the surface "
-                                                     "is at its melting point",
-                                            comment="instantaneous; not yet used to melt the surface"))
+                                     _attrs("W m-2", "energy flux melting the ice surface (surface at its "
+                                                     "melting point)", comment="instantaneous"))
+    for name, idx, text in (("surface_melt", K.B_H_SURFMELT, "ice melted at the surface"),
+                            ("basal_melt", K.B_H_BMELT, "ice melted at the base"),
+                            ("congelation_growth", K.B_H_GROW, "congelation ice grown at the base")):
+        v[name] = (dims_t, b[..., idx], _attrs("m", f"{text}, {cum}"))
+    v["salt_released_surface_melt"] = (dims_t, b[..., K.B_S_SURFMELT],
+                                       _attrs("kg m-2", f"salt carried to the ocean by surface melt water, {cum}"))
+    rho_w = 1028.0  # kg m-3, sea water near freezing (gsw: 1028.05 at SA = 35)
+    draft = (rho * h + SNOW_DENSITY * snow) / rho_w
+    v["draft"] = (dims_t, draft, _attrs("m", "ice draft (depth of the ice base below the water line)",
+                                        "sea_ice_draft",
+                                        comment=f"hydrostatic balance with ice density {float(rho.ravel()[0]):g}, "
+                                                f"snow density {SNOW_DENSITY:g} and sea-water density {rho_w:g} kg m-3"))
+    v["freeboard"] = (dims_t, h - draft, _attrs("m", "ice freeboard (height of the ice surface above the water "
+                                                     "line)", "sea_ice_freeboard",
+                                               comment="negative freeboard would flood the snow (snow-ice is not "
+                                                       "modelled yet)"))
     v["rayleigh_number"] = (dims_tl, raw.extra["rayleigh_number"],
                             _attrs("1", "local mush Rayleigh number of the layer"))
     v["energy_input_surface"] = (dims_t, e_surf, _attrs("J m-2", f"heat conducted into the ice at its surface, {cum}"))

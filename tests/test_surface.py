@@ -81,3 +81,26 @@ def test_energy_balance_growth_is_within_the_linear_scheme_range():
     lin = [ic.run(f, _cfg().replace("surface", scheme="linear", heat_transfer_coefficient=h)).ice_thickness.values[-1]
            for h in (10.0, 30.0)]
     assert 0.9 * lin[0] < eb < 1.1 * lin[1]
+
+
+def test_surface_melt_closes_budgets_and_thickness_identity():
+    # a warm sunny spell on 1 m ice: the surface melts; energy and salt budgets close, and
+    # thickness change = congelation growth - basal melt - surface melt (bookkeeping identity)
+    days = 6
+    t = np.datetime64("2027-06-01", "ns") + np.arange(24 * days + 1) * np.timedelta64(1, "h")
+    hr = np.arange(t.size) % 24
+    f = xr.Dataset({"air_temperature": ("time", np.full(t.size, 3.0)),
+                    "shortwave_down": ("time", np.maximum(0.0, 500.0 * np.sin(np.pi * hr / 24))),
+                    "cloud_fraction": ("time", np.full(t.size, 0.7)), "wind_speed": ("time", np.full(t.size, 5.0)),
+                    "relative_humidity": ("time", np.full(t.size, 95.0))},
+                   coords={"time": t}, attrs={"source_file": "<invented test forcing>"})
+    ds = ic.run(f, _cfg(ice_thickness=1.0, bulk_salinity=5.0))
+    h = ds.ice_thickness.values
+    assert ds.surface_melt.values[-1] > 0.05
+    assert np.nanmax(ds.surface_temperature.values) <= 0.0
+    ident = (h - h[0]) - (ds.congelation_growth - ds.basal_melt - ds.surface_melt).values
+    assert np.abs(ident).max() < 1e-12
+    assert _budget_residual(ds) < 1e-9
+    salt = ds.salt_content.values - ds.salt_content.values[0] - ds.salt_entrained.values + ds.salt_released.values
+    assert np.abs(salt).max() < 1e-9 * ds.salt_content.values[0]
+    assert ds.salt_released_surface_melt.values[-1] > 0.0

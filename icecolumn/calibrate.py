@@ -44,7 +44,7 @@ __all__ = ["FIT_PARAMETERS", "COARSE_INTERVAL", "LEBEDEV_EXPONENT", "Calibration
 FIT_PARAMETERS: dict[str, dict] = {
     "ocean.heat_flux": {"step": 0.5, "bounds": (-20.0, 100.0), "unit": "W m-2"},
     "surface.heat_transfer_coefficient": {"step": 0.5, "bounds": (1.0, 200.0), "unit": "W m-2 K-1"},
-    "properties.snow_conductivity": {"step": 0.01, "bounds": (0.03, 2.0), "unit": "W m-1 K-1"},
+    "snow.conductivity": {"step": 0.01, "bounds": (0.03, 2.0), "unit": "W m-1 K-1"},
 }
 #: Output interval of the calibration runs.
 COARSE_INTERVAL = "1D"
@@ -96,9 +96,9 @@ def _names(fit, extra, cfg: Config, obs: xr.Dataset) -> tuple[str, ...]:
         raise InputError(f"--fit: a parameter is named twice ({', '.join(names)})")
     if len(names) > 2:
         raise InputError("--fit: at most ocean.heat_flux and one more parameter can be fitted")
-    if "properties.snow_conductivity" in names:
+    if "snow.conductivity" in names:
         if cfg.initial.snow_thickness <= 0 or "snow_thickness" not in obs:
-            raise InputError("--fit properties.snow_conductivity needs snow on the ice ([initial] snow_thickness "
+            raise InputError("--fit snow.conductivity needs snow on the ice ([initial] snow_thickness "
                              "> 0) and observed snow_thickness")
     return tuple(names)
 
@@ -152,7 +152,7 @@ def calibrate(forcing: xr.Dataset, obs: xr.Dataset, config: Config | None = None
         Always contains ``"ocean.heat_flux"``.
     extra : str, optional
         One more parameter: ``"surface.heat_transfer_coefficient"`` or
-        ``"properties.snow_conductivity"`` (needs snow and observed snow thickness).
+        ``"snow.conductivity"`` (needs snow and observed snow thickness).
 
     Returns
     -------

@@ -118,7 +118,7 @@ def calibrate_command(
     output: Annotated[Optional[Path], typer.Option("-o", "--output", help="Fitted configuration TOML.")] = None,
     fit: Annotated[Optional[str], typer.Option("--fit", help="One more parameter to fit besides "
                                                "ocean.heat_flux (surface.heat_transfer_coefficient or "
-                                               "properties.snow_conductivity).")] = None,
+                                               "snow.conductivity).")] = None,
     dataset: Annotated[Optional[Path], typer.Option("--dataset", help="Also write the calibration NetCDF.")] = None,
     overwrite: Annotated[bool, typer.Option("--overwrite", help="Replace existing output files.")] = False,
 ) -> None:

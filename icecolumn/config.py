@@ -62,6 +62,8 @@ __all__ = [
 SURFACE_SCHEMES: tuple[str, ...] = ("auto", "linear", "prescribed", "energy_balance")
 #: Names accepted by ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
+#: Names accepted by ``[snow] conductivity_model``.
+SNOW_CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "sturm1997")
 #: Names accepted by ``[drainage] scheme``.
 DRAINAGE_SCHEMES: tuple[str, ...] = ("none", "griewank_notz2013", "rees_jones_worster2014")
 #: Names accepted by ``[drainage] permeability``.
@@ -129,7 +131,9 @@ PARAMETERS: dict[str, Param] = {
     "properties.ice_specific_heat": Param(2100.0, "J kg-1 K-1", "specific heat capacity of pure ice", "float", 0.0, None, True),
     "properties.brine_specific_heat": Param(3990.0, "J kg-1 K-1", "specific heat capacity of brine", "float", 0.0, None, True),
     "properties.latent_heat": Param(334000.0, "J kg-1", "latent heat of fusion of ice", "float", 0.0, None, True),
-    "properties.snow_conductivity": Param(0.31, "W m-1 K-1", "thermal conductivity of snow", "float", 0.0, None, True),
+    "snow.conductivity_model": Param("constant", "", "snow conductivity: constant ([snow] conductivity) or sturm1997 (from [snow] density)", "choice", choices=SNOW_CONDUCTIVITY_MODELS),
+    "snow.conductivity": Param(0.31, "W m-1 K-1", "thermal conductivity of snow (conductivity_model = constant; classic constant of Maykut & Untersteiner 1971)", "float", 0.0, None, True),
+    "snow.density": Param(300.0, "kg m-3", "snow density (about 300 on Arctic sea ice, Warren et al. 1999): snowfall depth, Sturm conductivity, draft", "float", 50.0, 600.0),
     "drainage.scheme": Param("griewank_notz2013", "", "brine gravity drainage scheme (none switches drainage off)", "choice", choices=DRAINAGE_SCHEMES),
     "drainage.flux_coefficient": Param(None, "scheme units", "drainage flux coefficient alpha (unset: the scheme's published or calibrated value)", "float", 0.0),
     "drainage.critical_rayleigh": Param(None, "1", "critical mush Rayleigh number (unset: the scheme's value)", "float", 0.0),
@@ -332,7 +336,16 @@ class PropertiesSection(_Section):
     ice_specific_heat: float = _default("properties.ice_specific_heat")
     brine_specific_heat: float = _default("properties.brine_specific_heat")
     latent_heat: float = _default("properties.latent_heat")
-    snow_conductivity: float = _default("properties.snow_conductivity")
+
+
+@dataclass(frozen=True)
+class SnowSection(_Section):
+    """``[snow]``: the snow layer on the ice."""
+
+    section: ClassVar[str] = "snow"
+    conductivity_model: str = _default("snow.conductivity_model")
+    conductivity: float = _default("snow.conductivity")
+    density: float = _default("snow.density")
 
 
 @dataclass(frozen=True)
@@ -392,6 +405,7 @@ class Config:
     ocean: OceanSection = field(default_factory=OceanSection)
     surface: SurfaceSection = field(default_factory=SurfaceSection)
     properties: PropertiesSection = field(default_factory=PropertiesSection)
+    snow: SnowSection = field(default_factory=SnowSection)
     drainage: DrainageSection = field(default_factory=DrainageSection)
     output: OutputSection = field(default_factory=OutputSection)
     solver: SolverSection = field(default_factory=SolverSection)

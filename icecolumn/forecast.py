@@ -60,7 +60,7 @@ PERTURBATIONS: dict[str, dict] = {
                         "unit": "W m-2",
                         "source": "configured (or calibrated) value +- 2 W m-2: a few W m-2 under winter landfast "
                                   "ice; common practice, no source"},
-    "properties.snow_conductivity": {"distribution": "uniform_factor", "low": 0.7, "high": 1.3,
+    "snow.conductivity": {"distribution": "uniform_factor", "low": 0.7, "high": 1.3,
                                      "unit": "W m-1 K-1",
                                      "source": "configured value x 0.7-1.3, about the 0.15-0.35 W m-1 K-1 spread of "
                                                "seasonal-snow conductivities in Sturm et al. (1997), J. Glaciol. "
@@ -242,7 +242,7 @@ def build_forecast_members(history: xr.Dataset, start, *, ice_thickness: float, 
     rng = np.random.default_rng(seed)
     base = {"initial.ice_thickness": h0, "initial.snow_thickness": hs0,
             "ocean.heat_flux": cfg.ocean.heat_flux,
-            "properties.snow_conductivity": cfg.properties.snow_conductivity,
+            "snow.conductivity": cfg.snow.conductivity,
             "surface.heat_transfer_coefficient": cfg.surface.heat_transfer_coefficient}
     values = {}
     for key, spec in PERTURBATIONS.items():

@@ -31,6 +31,7 @@ index   budget component (all cumulative since the start of the run)
 9       ice melted at the surface [m]
 10      congelation growth at the base [m]
 11      ice melted at the base [m]
+12      snow thickness [m] (prognostic state, not a budget term)
 ======  ==========================================================================
 
 Face fluxes (positive downward)
@@ -120,9 +121,10 @@ P_DRAMP = 24  # smoothing width of the onset (Ra - Ra_c)+ [1]
 P_DPHIW = 25  # smoothing width of the percolation threshold [1]
 P_DBETA = 26  # brine density slope d rho / d S_br [kg m-3 (g/kg)-1]
 P_WIND = 27  # wind speed when the forcing has none [m s-1]
+P_RHOSNOW = 28  # snow density [kg m-3]
 NPAR = 32
 
-NBUDGET = 12
+NBUDGET = 13
 B_E_SURF = 0
 B_E_OCEAN = 1
 B_E_WATER = 2
@@ -135,6 +137,7 @@ B_S_SURFMELT = 8
 B_H_SURFMELT = 9
 B_H_GROW = 10
 B_H_BMELT = 11
+B_SNOW = 12  # not cumulative: the prognostic snow thickness [m]
 
 SURFACE_SCHEMES = {"linear": 0, "prescribed": 1, "energy_balance": 2}
 
@@ -148,9 +151,10 @@ F_CLOUD = 5  # cloud fraction [1]
 F_WIND = 6  # wind speed [m s-1]
 F_RH = 7  # relative humidity (water) [%]
 F_SNOWDEPTH = 8  # measured snow depth [m]
-NFORCING = 9
+F_SNOWFALL = 9  # snowfall [kg m-2 s-1 water equivalent]
+NFORCING = 10
 FORCING_NAMES = ("air_temperature", "surface_temperature", "ocean_heat_flux", "shortwave_down",
-                 "longwave_down", "cloud_fraction", "wind_speed", "relative_humidity", "snow_thickness")
+                 "longwave_down", "cloud_fraction", "wind_speed", "relative_humidity", "snow_thickness", "snowfall")
 
 # TR-BDF2 coefficients
 _GAMMA = 2.0 - np.sqrt(2.0)
@@ -220,20 +224,22 @@ def _cells(y, n, par, temp, phi, sbr, dtde, dtdm, kc):
 
 
 @njit(cache=True)
-def _snow_depth(fv, par):
-    """Snow thickness [m]: measured depth from the forcing, else the configured slab."""
+def _snow_depth(fv, y, n):
+    """Snow thickness [m]: measured depth from the forcing, else the prognostic snow."""
     d = fv[F_SNOWDEPTH]
-    return d if d == d else par[P_HSNOW]
+    if d == d:
+        return d
+    d = y[2 * n + 1 + B_SNOW]
+    return d if d > 0.0 else 0.0
 
 
 @njit(cache=True)
-def _surface(t0, k0, dz, fv, par):
+def _surface(t0, k0, dz, fv, par, hs):
     """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature
     and the melt energy flux the capped surface could not take [W m-2].
 
     The flux includes the shortwave that penetrates the surface (energy balance scheme).
     """
-    hs = _snow_depth(fv, par)
     rs = hs / par[P_KSNOW] if hs > 0.0 else 0.0
     rc = 0.5 * dz / k0 + rs  # resistance surface -> top-layer centre
     tm = par[P_TMELT]
@@ -467,8 +473,11 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     tf = liquidus_temperature_scalar(par[P_SW])
     hw = rho * par[P_CL] * tf
     mw = rho * par[P_SW] / 1000.0
-    f0, df0, ts, melt = _surface(temp[0], kc[0], dz, fv, par)
-    a = _surface_melt_rate(y, n, par, melt) if a_in < 0.0 else a_in
+    hs = _snow_depth(fv, y, n)
+    f0, df0, ts, melt = _surface(temp[0], kc[0], dz, fv, par, hs)
+    # melt energy goes to the snow first (smoothly handed to the ice as the last cm melts)
+    fsnow = hs / 0.01 if hs < 0.01 else 1.0
+    a = _surface_melt_rate(y, n, par, (1.0 - fsnow) * melt) if a_in < 0.0 else a_in
     used = a * (-y[0] / dz)  # melt energy used: melts ice into water at 0 degC (H = 0)
     for i in range(2 * n + 1 + NBUDGET):
         f[i] = 0.0
@@ -503,6 +512,9 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     f[nb + B_E_SURF] = f0 + used
     f[nb + B_S_SURFMELT] = s_top
     f[nb + B_H_SURFMELT] = a
+    if fv[F_SNOWDEPTH] != fv[F_SNOWDEPTH]:  # prognostic snow: snowfall minus snow melt
+        sf = fv[F_SNOWFALL]
+        f[nb + B_SNOW] = (sf if sf == sf else 0.0) / par[P_RHOSNOW] - fsnow * melt / (par[P_RHOSNOW] * par[P_L])
     if r > 0.0:
         f[nb + B_H_GROW] = r
     else:
@@ -1008,10 +1020,11 @@ def diagnose(ys, n, pars, ft, forc, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra,
         for k in range(n):
             sal[mbr, k] = 1000.0 * y[n + k] / (par[P_RHO] * dz)
         _forcing_at(ft, forc[mbr], t, 0, par, fv)
-        _f, _d, ts, mx = _surface(temp[mbr, 0], kc[mbr, 0], dz, fv, par)
+        hs = _snow_depth(fv, y, n)
+        _f, _d, ts, mx = _surface(temp[mbr, 0], kc[mbr, 0], dz, fv, par, hs)
         tsurf[mbr] = ts
-        melt[mbr] = _surface_melt_rate(y, n, par, mx) * (-y[0] / dz)  # melt energy used
-        snow[mbr] = _snow_depth(fv, par)
+        melt[mbr] = mx  # melt energy at the surface (snow first, then ice)
+        snow[mbr] = hs
         hdot[mbr] = _hdot_of_state(y, n, par, fv[F_QOCEAN])
         _drainage(y, n, par, temp[mbr], phi[mbr], sbr[mbr], wflux, qsink, ra[mbr])
         wbase[mbr] = wflux[n]

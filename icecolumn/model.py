@@ -74,7 +74,8 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_SW] = cfg.ocean.salinity
     p[K.P_FW] = cfg.ocean.heat_flux
     p[K.P_HTC] = cfg.surface.heat_transfer_coefficient
-    p[K.P_KSNOW] = pr.snow_conductivity
+    p[K.P_KSNOW] = snow_conductivity(cfg)
+    p[K.P_RHOSNOW] = cfg.snow.density
     p[K.P_HSNOW] = cfg.initial.snow_thickness
     # "auto" is resolved against the forcing by resolve_surface_scheme(); linear until then
     p[K.P_SURF] = K.SURFACE_SCHEMES.get(cfg.surface.scheme, K.SURFACE_SCHEMES["linear"])
@@ -94,6 +95,16 @@ def resolve_surface_scheme(cfg: Config, forcing: xr.Dataset) -> str:
     if cfg.surface.scheme != "auto":
         return cfg.surface.scheme
     return "energy_balance" if ("shortwave_down" in forcing or "cloud_fraction" in forcing) else "linear"
+
+
+def snow_conductivity(cfg: Config) -> float:
+    """Snow conductivity [W m-1 K-1] of the configuration: constant, or Sturm et al. (1997) at
+    the configured density."""
+    from .properties import snow_conductivity_sturm1997
+
+    if cfg.snow.conductivity_model == "sturm1997":
+        return float(snow_conductivity_sturm1997(cfg.snow.density))
+    return cfg.snow.conductivity
 
 
 def ocean_freezing_temperature(cfg: Config) -> float:
@@ -147,6 +158,7 @@ def state_from_profile(cfg: Config, thickness: float, temperature, bulk_salinity
     y[:n] = hv * dz
     y[n:2 * n] = pr.ice_density * bulk_salinity / 1000.0 * dz
     y[2 * n] = thickness
+    y[2 * n + 1 + K.B_SNOW] = cfg.initial.snow_thickness
     return y
 
 
@@ -156,7 +168,7 @@ def _steady_surface_temperature(cfg: Config, air: float) -> float:
     k = 2.0 if cfg.properties.conductivity_model != "constant" else cfg.properties.ice_conductivity
     r_ice = cfg.initial.ice_thickness / k
     if cfg.initial.snow_thickness > 0:
-        r_ice += cfg.initial.snow_thickness / cfg.properties.snow_conductivity
+        r_ice += cfg.initial.snow_thickness / snow_conductivity(cfg)
     hc = cfg.surface.heat_transfer_coefficient
     # flux (air -> base) through 1/H + R; surface temperature T_a + (T_f - T_a)/(1 + H R) ...
     ts = air + (tf - air) * (1.0 / hc) / (1.0 / hc + r_ice)

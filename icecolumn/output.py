@@ -21,10 +21,6 @@ from .textfile import check_new_output, write_atomically
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
            "and follow local ice-safety rules and qualified guidance.")
 
-#: Snow density for the hydrostatic draft: about 300 kg m-3 on Arctic sea ice (Warren et al. 1999,
-#: J. Climate 12, 1814).
-SNOW_DENSITY = 300.0  # kg m-3
-
 THICKNESS_DEFINITION = (
     "ice_thickness is the depth of the tracked ice-ocean interface below the ice surface, where the "
     "mushy bottom reaches the ocean freezing temperature (liquid fraction -> 1); the porous bottom is "
@@ -153,11 +149,13 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["salt_released_surface_melt"] = (dims_t, b[..., K.B_S_SURFMELT],
                                        _attrs("kg m-2", f"salt carried to the ocean by surface melt water, {cum}"))
     rho_w = 1028.0  # kg m-3, sea water near freezing (gsw: 1028.05 at SA = 35)
-    draft = (rho * h + SNOW_DENSITY * snow) / rho_w
+    rho_s = np.array([c.snow.density for c in raw.configs])[:, None]
+    draft = (rho * h + rho_s * snow) / rho_w
     v["draft"] = (dims_t, draft, _attrs("m", "ice draft (depth of the ice base below the water line)",
                                         "sea_ice_draft",
                                         comment=f"hydrostatic balance with ice density {float(rho.ravel()[0]):g}, "
-                                                f"snow density {SNOW_DENSITY:g} and sea-water density {rho_w:g} kg m-3"))
+                                                f"snow density {float(rho_s.ravel()[0]):g} and sea-water density "
+                                                f"{rho_w:g} kg m-3"))
     v["freeboard"] = (dims_t, h - draft, _attrs("m", "ice freeboard (height of the ice surface above the water "
                                                      "line)", "sea_ice_freeboard",
                                                comment="negative freeboard would flood the snow (snow-ice is not "

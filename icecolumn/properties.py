@@ -106,3 +106,26 @@ def pure_ice_conductivity(temperature):
 def brine_conductivity(temperature):
     """Brine conductivity, Yen et al. (1991). [W m-1 K-1] from temperature [degC]."""
     return np.vectorize(brine_conductivity_scalar, otypes=[float])(temperature)
+
+
+def snow_conductivity_sturm1997(density):
+    """Effective thermal conductivity of seasonal snow, Sturm et al. (1997).
+
+    Parameters
+    ----------
+    density : array_like
+        Snow density. [kg m-3]
+
+    Returns
+    -------
+    ndarray
+        Conductivity. [W m-1 K-1]
+
+    Notes
+    -----
+    Quadratic regression on 488 measurements, rho in g cm-3:
+    k = 0.138 - 1.01 rho + 3.233 rho^2 for 0.156 <= rho <= 0.6, and k = 0.023 + 0.234 rho below
+    (Sturm, Holmgren, Koenig & Morris 1997, J. Glaciol. 43(143), 26-41; coefficients from memory).
+    """
+    r = np.asarray(density, dtype=float) / 1000.0
+    return np.where(r < 0.156, 0.023 + 0.234 * r, 0.138 - 1.01 * r + 3.233 * r * r)

@@ -112,7 +112,7 @@ def test_bad_calibration_inputs(setup):
     with pytest.raises(InputError, match="in time order"):
         calibrate(forcing, _obs(times[::-1], h[::-1]), cfg)
     with pytest.raises(InputError, match="needs snow"):
-        calibrate(forcing, _obs(times, h), cfg, extra="properties.snow_conductivity")
+        calibrate(forcing, _obs(times, h), cfg, extra="snow.conductivity")
     with pytest.raises(InputError, match="cannot be fitted"):
         calibrate(forcing, _obs(times, h), cfg, extra="grid.layers")
     late = times + np.timedelta64(200, "D")

@@ -139,6 +139,7 @@ PARAMETERS: dict[str, Param] = {
     "drainage.critical_rayleigh": Param(None, "1", "critical mush Rayleigh number (unset: the scheme's value)", "float", 0.0),
     "drainage.permeability": Param("scheme", "", "permeability law (scheme: the law the scheme was calibrated with)", "choice", choices=PERMEABILITY_CHOICES),
     "drainage.percolation_threshold": Param(0.03, "1", "liquid fraction below which ice is impermeable (published 0.02-0.05; default 0.03 after Maus et al. 2021 for young ice)", "float", 0.0, 0.2),
+    "drainage.flushing_fraction": Param(0.3, "1", "fraction of surface melt water that flushes down through permeable ice (0 switches flushing off; a setting of this project)", "float", 0.0, 1.0),
     "drainage.onset_smoothing": Param(1.0, "1", "width of the C1 smoothing of (Ra - Ra_c)+ in Rayleigh units", "float", 0.0, None, True),
     "output.interval": Param("6h", "", "time between output records (e.g. 30min, 1h, 6h, 1D)", "duration", multiple_of=60.0),
     "solver.rtol": Param(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True),
@@ -359,6 +360,7 @@ class DrainageSection(_Section):
     permeability: str = _default("drainage.permeability")
     percolation_threshold: float = _default("drainage.percolation_threshold")
     onset_smoothing: float = _default("drainage.onset_smoothing")
+    flushing_fraction: float = _default("drainage.flushing_fraction")
 
 
 @dataclass(frozen=True)

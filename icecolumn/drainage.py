@@ -67,7 +67,7 @@ import numpy as np
 
 from .constants import GRAVITY
 from .kernel import P_DALPHA, P_DAVG, P_DBETA, P_DKAPPA, P_DMU, P_DPERM, P_DPHIC, P_DPHIW, P_DRAC, \
-    P_DRAMP, permeability_scalar
+    P_DRAMP, P_FLUSH, permeability_scalar
 
 #: Scheme name -> kernel code.
 DRAINAGE_CODES = {"none": 0, "griewank_notz2013": 1, "rees_jones_worster2014": 2}
@@ -182,4 +182,5 @@ def drainage_parameters(cfg, p):
     p[P_DMU] = BRINE_VISCOSITY
     p[P_DRAMP] = s["onset_smoothing"]
     p[P_DBETA] = BRINE_DENSITY_SLOPE
+    p[P_FLUSH] = cfg.drainage.flushing_fraction
     return p

@@ -32,6 +32,8 @@ index   budget component (all cumulative since the start of the run)
 10      congelation growth at the base [m]
 11      ice melted at the base [m]
 12      snow thickness [m] (prognostic state, not a budget term)
+13      salt flushed out of the ice base by percolating melt water [kg m-2]
+14      enthalpy carried by the flushing flow (melt water in at 0 degC minus brine out) [J m-2]
 ======  ==========================================================================
 
 Face fluxes (positive downward)
@@ -122,9 +124,10 @@ P_DPHIW = 25  # smoothing width of the percolation threshold [1]
 P_DBETA = 26  # brine density slope d rho / d S_br [kg m-3 (g/kg)-1]
 P_WIND = 27  # wind speed when the forcing has none [m s-1]
 P_RHOSNOW = 28  # snow density [kg m-3]
+P_FLUSH = 29  # fraction of surface melt water flushing down through permeable ice [1]
 NPAR = 32
 
-NBUDGET = 13
+NBUDGET = 15
 B_E_SURF = 0
 B_E_OCEAN = 1
 B_E_WATER = 2
@@ -138,6 +141,8 @@ B_H_SURFMELT = 9
 B_H_GROW = 10
 B_H_BMELT = 11
 B_SNOW = 12  # not cumulative: the prognostic snow thickness [m]
+B_S_FLUSH = 13
+B_E_FLUSH = 14
 
 SURFACE_SCHEMES = {"linear": 0, "prescribed": 1, "energy_balance": 2}
 
@@ -456,6 +461,44 @@ def _surface_melt_rate(y, n, par, melt_energy):
 
 
 @njit(cache=True)
+def _flushing(n, par, a, temp, phi, sbr, f):
+    """Flushing: a fraction of the surface melt water percolates down through the ice when
+    every layer is permeable, displacing brine volume for volume (upwind, from above); fresh
+    melt water (0 degC, H = 0, S = 0) enters at the top and brine leaves at the base.
+
+    The structure follows the flushing parameterisations that route a fraction of surface
+    melt through permeable ice (e.g. Vancoppenolle et al. 2007, JGR 112; from memory); the
+    fraction is this project's setting ([drainage] flushing_fraction).
+    """
+    phimin = 1.0
+    for k in range(n):
+        if phi[k] < phimin:
+            phimin = phi[k]
+    x = (phimin - par[P_DPHIC]) / par[P_DPHIW]
+    if x <= 0.0:
+        return
+    gate = 1.0 if x >= 1.0 else x * x * (3.0 - 2.0 * x)
+    w = par[P_FLUSH] * a * gate  # downward volume flux [m s-1]
+    rho = par[P_RHO]
+    cw = rho / 1000.0
+    rcl = rho * par[P_CL]
+    for j in range(1, n):
+        us = w * cw * sbr[j - 1]
+        ue = w * rcl * temp[j - 1]
+        f[n + j - 1] -= us
+        f[n + j] += us
+        f[j - 1] -= ue
+        f[j] += ue
+    s_out = w * cw * sbr[n - 1]
+    e_out = w * rcl * temp[n - 1]
+    f[2 * n - 1] -= s_out
+    f[n - 1] -= e_out
+    nb = 2 * n + 1
+    f[nb + B_S_FLUSH] = s_out
+    f[nb + B_E_FLUSH] = -e_out
+
+
+@njit(cache=True)
 def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra, a_in):
     """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
 
@@ -551,6 +594,8 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         f[nb + B_S_DRAIN] = sout - win * mw
         f[nb + B_E_DRAIN] = win * rcl * tf - eout
         f[nb + B_V_DRAIN] = win
+    if par[P_FLUSH] > 0.0 and a > 0.0:
+        _flushing(n, par, a, temp, phi, sbr, f)
     return ts, df0, a
 
 

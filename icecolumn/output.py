@@ -65,9 +65,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     s_drain = b[..., K.B_S_DRAIN]
     e_drain = b[..., K.B_E_DRAIN]
     v_drain = b[..., K.B_V_DRAIN]
-    energy_input = e_surf + e_ocean + e_water + e_drain
+    e_flush = b[..., K.B_E_FLUSH]
+    energy_input = e_surf + e_ocean + e_water + e_drain + e_flush
     rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
-    salt_released = s_melt + s_drain + b[..., K.B_S_SURFMELT]
+    salt_released = s_melt + s_drain + b[..., K.B_S_SURFMELT] + b[..., K.B_S_FLUSH]
     frac = (np.arange(n) + 0.5) / n
     depth = h[..., None] * frac
     bounds = np.stack([h[..., None] * (np.arange(n) / n), h[..., None] * ((np.arange(n) + 1) / n)], axis=-1)
@@ -110,7 +111,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["salt_entrained"] = (dims_t, s_ent, _attrs("kg m-2", f"salt in all sea water taken up by the ice, {cum}"))
     v["salt_released"] = (dims_t, salt_released,
                           _attrs("kg m-2", f"net salt that crossed the ice base into the ocean, {cum}",
-                                 comment="sum of salt_released_drainage, salt_released_melt and salt_released_surface_melt; a brine "
+                                 comment="sum of salt_released_drainage, _melt, _surface_melt and _flushing; a brine "
                                          "exchange counts as brine out minus ocean water in"))
     v["salt_released_drainage"] = (dims_t, s_drain,
                                    _attrs("kg m-2", f"net salt released by gravity drainage, {cum}"))
@@ -123,8 +124,12 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                                                 "(reference liquid at 0 degC)"))
     v["energy_input"] = (dims_t, energy_input,
                          _attrs("J m-2", f"net energy that entered the column, {cum}",
-                                comment="sum of energy_input_surface, energy_input_ocean, energy_input_water "
-                                        "and energy_input_drainage"))
+                                comment="sum of energy_input_surface, energy_input_ocean, energy_input_water, "
+                                        "energy_input_drainage and energy_input_flushing"))
+    v["energy_input_flushing"] = (dims_t, e_flush,
+                                  _attrs("J m-2", f"enthalpy carried by flushing (melt water in minus brine out), {cum}"))
+    v["salt_released_flushing"] = (dims_t, b[..., K.B_S_FLUSH],
+                                   _attrs("kg m-2", f"salt flushed out of the ice base by melt water, {cum}"))
     v["energy_input_drainage"] = (dims_t, e_drain,
                                   _attrs("J m-2", f"enthalpy carried by the drainage exchange (sea water in minus "
                                                   f"brine out), {cum}"))

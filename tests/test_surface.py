@@ -83,17 +83,22 @@ def test_energy_balance_growth_is_within_the_linear_scheme_range():
     assert 0.9 * lin[0] < eb < 1.1 * lin[1]
 
 
+def _summer(days, air, peak_shortwave):
+    """Invented melt-season test forcing: constant air temperature, a daily shortwave cycle."""
+    t = np.datetime64("2027-06-01", "ns") + np.arange(24 * days + 1) * np.timedelta64(1, "h")
+    hr = np.arange(t.size) % 24
+    one = np.ones(t.size)
+    return xr.Dataset({"air_temperature": ("time", air * one),
+                       "shortwave_down": ("time", np.maximum(0.0, peak_shortwave * np.sin(np.pi * hr / 24))),
+                       "cloud_fraction": ("time", 0.7 * one), "wind_speed": ("time", 5.0 * one),
+                       "relative_humidity": ("time", 95.0 * one)},
+                      coords={"time": t}, attrs={"source_file": "<invented test forcing>"})
+
+
 def test_surface_melt_closes_budgets_and_thickness_identity():
     # a warm sunny spell on 1 m ice: the surface melts; energy and salt budgets close, and
     # thickness change = congelation growth - basal melt - surface melt (bookkeeping identity)
-    days = 6
-    t = np.datetime64("2027-06-01", "ns") + np.arange(24 * days + 1) * np.timedelta64(1, "h")
-    hr = np.arange(t.size) % 24
-    f = xr.Dataset({"air_temperature": ("time", np.full(t.size, 3.0)),
-                    "shortwave_down": ("time", np.maximum(0.0, 500.0 * np.sin(np.pi * hr / 24))),
-                    "cloud_fraction": ("time", np.full(t.size, 0.7)), "wind_speed": ("time", np.full(t.size, 5.0)),
-                    "relative_humidity": ("time", np.full(t.size, 95.0))},
-                   coords={"time": t}, attrs={"source_file": "<invented test forcing>"})
+    f = _summer(6, air=3.0, peak_shortwave=500.0)
     ds = ic.run(f, _cfg(ice_thickness=1.0, bulk_salinity=5.0))
     h = ds.ice_thickness.values
     assert ds.surface_melt.values[-1] > 0.05
@@ -109,14 +114,7 @@ def test_surface_melt_closes_budgets_and_thickness_identity():
 def test_flushing_desalinates_melting_ice_and_conserves():
     # surface melt water percolating through permeable ice flushes salt (Notz & Worster 2009,
     # JGR 114, C05006: flushing is one of the two processes with measurable net salt loss)
-    days = 6
-    t = np.datetime64("2027-06-01", "ns") + np.arange(24 * days + 1) * np.timedelta64(1, "h")
-    hr = np.arange(t.size) % 24
-    f = xr.Dataset({"air_temperature": ("time", np.full(t.size, 2.0)),
-                    "shortwave_down": ("time", np.maximum(0.0, 400.0 * np.sin(np.pi * hr / 24))),
-                    "cloud_fraction": ("time", np.full(t.size, 0.7)), "wind_speed": ("time", np.full(t.size, 5.0)),
-                    "relative_humidity": ("time", np.full(t.size, 95.0))},
-                   coords={"time": t}, attrs={"source_file": "<invented test forcing>"})
+    f = _summer(6, air=2.0, peak_shortwave=400.0)
     base = _cfg(ice_thickness=1.5, bulk_salinity=6.0)
     off = ic.run(f, base.replace("drainage", flushing_fraction=0.0))
     on = ic.run(f, base)

@@ -320,9 +320,11 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
         sal[:, it] = tmp[3]
         tsurf[:, it] = tsv
 
+    # a batch spreads its members over threads; one column stays on the serial kernel
+    step = K.advance_parallel if nm > 1 else K.advance
     record(0)
     for it in range(1, nt):
-        K.advance(ys, tsec[it - 1], tsec[it], n, pars, ft, forc, status, counters)
+        step(ys, tsec[it - 1], tsec[it], n, pars, ft, forc, status, counters)
         if status.any():
             bad = int(np.flatnonzero(status)[0])
             raise IceColumnError(

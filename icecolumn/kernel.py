@@ -809,6 +809,38 @@ def _err_norm(vec, y, n, par, ny):
 
 
 @njit(cache=True)
+def _dh_column(y, r, a, n, par, f, temp, dtde, dtdm, kc, df0, dtdh, col):
+    """d f_cells / d h at fixed layer contents, basal velocity ``r`` and melt rate ``a``."""
+    h = y[2 * n]
+    dz = h / n
+    for k in range(n):
+        dtdh[k] = -(dtde[k] * y[k] + dtdm[k] * y[n + k]) / h  # intensive state thins with h
+    for i in range(2 * n):
+        col[i] = 0.0
+    used = a * (-y[0] / dz)
+    f0 = f[2 * n + 1 + B_E_SURF] - used
+    col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used / h
+    col[n] += a * y[n] / dz / h
+    for j in range(1, n):
+        kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
+        fc = kf * (temp[j - 1] - temp[j]) / dz
+        dfc = -fc / h + kf / dz * (dtdh[j - 1] - dtdh[j])
+        w = a * (n - j) / n + r * j / n
+        if w > 0.0:
+            ae = -w * y[j] / dz
+            am = -w * y[n + j] / dz
+        else:
+            ae = -w * y[j - 1] / dz
+            am = -w * y[n + j - 1] / dz
+        col[j - 1] -= dfc - ae / h
+        col[j] += dfc - ae / h
+        col[n + j - 1] += am / h
+        col[n + j] -= am / h
+    if r <= 0.0:
+        col[2 * n - 1] -= r * y[2 * n - 1] / dz / h
+
+
+@njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc,
                   lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in):
     """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r).
@@ -830,15 +862,15 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         res_h = -(y[2 * n] - base[2 * n] - a_dt * (r - atop))
         hd = _hdot_of_state(y, n, par, fw)
         res_r = -(r - hd)
-        # border column for h by finite difference of f at fixed r
+        # border column for h: analytic d f / d h at fixed contents and r (conduction,
+        # advection and melt terms through the layer thickness h/n; the small dependence of
+        # conductivity and drainage on h is left out, as for the cell blocks)
         dh = 1e-7 * h
         for i in range(2 * n + 1 + NBUDGET):
             ytmp[i] = y[i]
-        ytmp[2 * n] = h + dh
-        _rhs(ytmp, r, n, par, fv, fw, ftmp, sc[0, :n], sc[1, :n], sc[2, :n], sc[3, :n], sc[4, :n],
-             sc[5, :n], True, sc[6, :], sc[7, :n], sc[8, :n], a_in)
+        _dh_column(y, r, atop, n, par, f, temp, dtde, dtdm, kc, df0, sc[0, :n], ftmp)
         for i in range(ncell):
-            rhs[1, i] = -a_dt * (ftmp[i] - f[i]) / dh  # B column (h)
+            rhs[1, i] = -a_dt * ftmp[i]  # B column (h)
         # border row for r: d hdot / d (e_b, m_b, h)
         de = 1e-7 * (abs(y[n - 1]) + 1.0)
         ytmp[2 * n] = h

@@ -461,6 +461,18 @@ def _surface_melt_rate(y, n, par, melt_energy):
 
 
 @njit(cache=True)
+def _face_fluxes(y, j, n, r, a, kc, temp, dz):
+    """Interior face j: harmonic-mean conductivity, downward conductive flux and the upwind
+    advective enthalpy and salt fluxes of the moving grid (face velocity (1-j/n) a + (j/n) r)."""
+    kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
+    fc = kf * (temp[j - 1] - temp[j]) / dz
+    w = a * (n - j) / n + r * j / n
+    if w > 0.0:
+        return kf, fc, -w * y[j] / dz, -w * y[n + j] / dz
+    return kf, fc, -w * y[j - 1] / dz, -w * y[n + j - 1] / dz
+
+
+@njit(cache=True)
 def _flushing(n, par, a, temp, phi, sbr, f):
     """Flushing: a fraction of the surface melt water percolates down through the ice when
     every layer is permeable, displacing brine volume for volume (upwind, from above); fresh
@@ -530,15 +542,7 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     f[n] -= s_top
     # interior faces; face j moves down at (1 - j/n) a + (j/n) r relative to the ice
     for j in range(1, n):
-        kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
-        fc = kf * (temp[j - 1] - temp[j]) / dz
-        w = a * (n - j) / n + r * j / n
-        if w > 0.0:
-            ae = -w * y[j] / dz
-            am = -w * y[n + j] / dz
-        else:
-            ae = -w * y[j - 1] / dz
-            am = -w * y[n + j - 1] / dz
+        kf, fc, ae, am = _face_fluxes(y, j, n, r, a, kc, temp, dz)
         f[j - 1] -= fc + ae
         f[j] += fc + ae
         f[n + j - 1] -= am
@@ -822,16 +826,8 @@ def _dh_column(y, r, a, n, par, f, temp, dtde, dtdm, kc, df0, dtdh, col):
     col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used / h
     col[n] += a * y[n] / dz / h
     for j in range(1, n):
-        kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
-        fc = kf * (temp[j - 1] - temp[j]) / dz
+        kf, fc, ae, am = _face_fluxes(y, j, n, r, a, kc, temp, dz)
         dfc = -fc / h + kf / dz * (dtdh[j - 1] - dtdh[j])
-        w = a * (n - j) / n + r * j / n
-        if w > 0.0:
-            ae = -w * y[j] / dz
-            am = -w * y[n + j] / dz
-        else:
-            ae = -w * y[j - 1] / dz
-            am = -w * y[n + j - 1] / dz
         col[j - 1] -= dfc - ae / h
         col[j] += dfc - ae / h
         col[n + j - 1] += am / h

@@ -23,11 +23,11 @@ import icecolumn
 
 from ._version import __version__
 from .errors import IceColumnError, InputError
+from .forcing import is_netcdf
 
 PROG = "icecolumn"
 SAMPLE_NAME = "station_winter.csv"
 FIGURE_NAMES = ("thickness", "sections", "salt", "profiles")
-NETCDF_SUFFIXES = (".nc", ".nc4", ".cdf", ".netcdf")
 
 
 # --------------------------------------------------------------------------- error handling
@@ -187,17 +187,6 @@ def _run_summary(ds, path: Path) -> str:
         icecolumn.CAUTION,
     ]
     return "\n".join(lines)
-
-
-def _is_netcdf(path: Path) -> bool:
-    if path.suffix.lower() in NETCDF_SUFFIXES:
-        return True
-    try:
-        with open(path, "rb") as fh:
-            head = fh.read(8)
-    except OSError:
-        return False
-    return head.startswith(b"CDF") or head.startswith(b"\x89HDF")
 
 
 def _open_run(path: Path, require=("ice_thickness", "air_temperature")):
@@ -425,7 +414,7 @@ def laws_command(
     if every not in ("week", "month"):
         raise InputError(f"--every: expected 'week' or 'month', got {every!r}")
     run = None
-    if _is_netcdf(input_path):
+    if is_netcdf(input_path):
         if run_path is not None:
             raise InputError(f"{input_path}: is a run output already; --run is for a forcing INPUT")
         run, run_path = _open_run(input_path), input_path

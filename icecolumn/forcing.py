@@ -68,7 +68,7 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .textfile import read_user_text
+from .textfile import read_user_bytes, read_user_text
 from .timeutil import format_time, parse_duration, parse_times
 
 __all__ = [
@@ -246,7 +246,9 @@ def _max_gap_seconds(max_gap: Any, name: str) -> float:
     return seconds
 
 
-def _is_netcdf(path: Path) -> bool:
+def is_netcdf(path) -> bool:
+    """True for a NetCDF file: by suffix, or by the NetCDF-3 / HDF5 signature of its first bytes."""
+    path = Path(path)
     if path.suffix.lower() in NETCDF_SUFFIXES:
         return True
     try:
@@ -299,7 +301,7 @@ def read_forcing(
         When gaps were filled or relative humidity was clipped.
     """
     name = str(path)
-    if _is_netcdf(Path(path)):
+    if is_netcdf(path):
         return read_forcing_netcdf(path, column_map, max_gap=max_gap)
     gap_s = _max_gap_seconds(max_gap, name)
     text, raw = read_user_text(path, "forcing file")
@@ -614,14 +616,7 @@ def read_forcing_netcdf(
     """
     name = str(path)
     gap_s = _max_gap_seconds(max_gap, name)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{name}: file not found") from None
-    except IsADirectoryError:
-        raise InputError(f"{name}: is a directory, not a forcing file") from None
-    except OSError as err:
-        raise InputError(f"{name}: cannot read: {err.strerror}") from None
+    raw = read_user_bytes(path, "forcing file")
     known = tuple(CF_STANDARD_NAMES)
     for ours in column_map or {}:
         if ours not in known:

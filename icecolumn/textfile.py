@@ -6,20 +6,26 @@ from pathlib import Path
 from .errors import InputError
 
 
-def read_user_text(path, what: str) -> tuple[str, bytes]:
-    """Return (text, raw bytes) of a UTF-8 file; :class:`InputError` names the file and problem.
-
-    ``what`` names the kind of file in messages (e.g. ``"forcing file"``).
-    """
+def read_user_bytes(path, what: str) -> bytes:
+    """The bytes of a user's file; :class:`InputError` names the file and the problem."""
     name = str(path)
     try:
-        raw = Path(path).read_bytes()
+        return Path(path).read_bytes()
     except FileNotFoundError:
         raise InputError(f"{name}: file not found") from None
     except IsADirectoryError:
         raise InputError(f"{name}: is a directory, not a {what}") from None
     except OSError as err:
         raise InputError(f"{name}: cannot read: {err.strerror}") from None
+
+
+def read_user_text(path, what: str) -> tuple[str, bytes]:
+    """Return (text, raw bytes) of a UTF-8 file; :class:`InputError` names the file and problem.
+
+    ``what`` names the kind of file in messages (e.g. ``"forcing file"``).
+    """
+    name = str(path)
+    raw = read_user_bytes(path, what)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as err:

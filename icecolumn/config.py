@@ -64,6 +64,8 @@ SURFACE_SCHEMES: tuple[str, ...] = ("auto", "linear", "prescribed", "energy_bala
 CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
 #: Names accepted by ``[snow] conductivity_model``.
 SNOW_CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "sturm1997")
+#: Names accepted by ``[snow] flooding``.
+FLOODING_CHOICES: tuple[str, ...] = ("hydrostatic", "none")
 #: Names accepted by ``[drainage] scheme``.
 DRAINAGE_SCHEMES: tuple[str, ...] = ("none", "griewank_notz2013", "rees_jones_worster2014")
 #: Names accepted by ``[drainage] permeability``.
@@ -118,11 +120,14 @@ PARAMETERS: dict[str, Param] = {
     "run.start": Param(None, "", "first time simulated (unset: start of the forcing)", "time"),
     "run.end": Param(None, "", "last time simulated (unset: end of the forcing)", "time"),
     "grid.layers": Param(40, "1", "number of finite-volume layers in the ice", "int", 3, 1000),
-    "initial.ice_thickness": Param(0.02, "m", "ice thickness at the start", "float", 0.01, 10.0),
+    "initial.ice_thickness": Param(0.02, "m", "ice thickness at the start (0: open water, which freezes when the water reaches its freezing point and loses heat; otherwise at least 0.01)", "float", 0.0, 10.0),
     "initial.snow_thickness": Param(0.0, "m", "snow thickness at the start", "float", 0.0),
     "initial.bulk_salinity": Param(10.0, "g/kg", "uniform bulk salinity of the initial ice (at most [ocean] salinity)", "float", 0.0),
     "ocean.salinity": Param(34.0, "g/kg", "ocean Absolute Salinity (TEOS-10)", "float", 0.0, 45.0),
     "ocean.heat_flux": Param(2.0, "W m-2", "ocean heat flux into the ice base, used when the forcing has none", "float", -50.0, 500.0),
+    "ocean.mixed_layer_depth": Param(0.0, "m", "depth of a slab ocean mixed layer whose temperature and salinity evolve with the surface, the deep ocean heat flux and the ice's salt and fresh water (0: no mixed layer, the water under the ice stays at its freezing point)", "float", 0.0, 1000.0),
+    "ocean.salinity_restoring_time": Param(365.0, "days", "time over which exchange with the deep ocean restores the mixed-layer salinity to [ocean] salinity (0: a closed mixed layer; with a mixed layer only)", "float", 0.0),
+    "ocean.new_ice_thickness": Param(0.02, "m", "thickness of the new ice that open water at its freezing point forms once it has lost the heat to freeze it", "float", 0.015, 0.5),
     "surface.scheme": Param("auto", "", "surface boundary: energy_balance (needs shortwave_down or cloud_fraction in the forcing), linear air-to-surface transfer, prescribed surface temperature from the forcing, or auto (energy_balance when the forcing allows it, else linear)", "choice", choices=SURFACE_SCHEMES),
     "surface.heat_transfer_coefficient": Param(10.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient (10-30 typical, Ashton in Britannica)", "float", 0.0, None, True),
     "properties.conductivity_model": Param("parallel_yen1991", "", "bulk thermal conductivity of sea ice", "choice", choices=CONDUCTIVITY_MODELS),
@@ -134,6 +139,8 @@ PARAMETERS: dict[str, Param] = {
     "snow.conductivity_model": Param("constant", "", "snow conductivity: constant ([snow] conductivity) or sturm1997 (from [snow] density)", "choice", choices=SNOW_CONDUCTIVITY_MODELS),
     "snow.conductivity": Param(0.31, "W m-1 K-1", "thermal conductivity of snow (conductivity_model = constant; classic constant of Maykut & Untersteiner 1971)", "float", 0.0, None, True),
     "snow.density": Param(300.0, "kg m-3", "snow density (about 300 on Arctic sea ice, Warren et al. 1999): snowfall depth, Sturm conductivity, draft", "float", 50.0, 600.0),
+    "snow.flooding": Param("hydrostatic", "", "snow-ice formation: hydrostatic (sea water floods the snow base while the freeboard is negative) or none", "choice", choices=FLOODING_CHOICES),
+    "snow.flooding_timescale": Param("1D", "", "time over which flooding restores zero freeboard", "duration"),
     "drainage.scheme": Param("griewank_notz2013", "", "brine gravity drainage scheme (none switches drainage off)", "choice", choices=DRAINAGE_SCHEMES),
     "drainage.flux_coefficient": Param(None, "scheme units", "drainage flux coefficient alpha (unset: the scheme's published or calibrated value)", "float", 0.0),
     "drainage.critical_rayleigh": Param(None, "1", "critical mush Rayleigh number (unset: the scheme's value)", "float", 0.0),
@@ -252,6 +259,12 @@ def _check_cross(values: dict[str, dict[str, Any]], source_of: dict[str, str]) -
             f"{source('initial.bulk_salinity', 'ocean.salinity')}: [initial] bulk_salinity = {_show(sb)}: "
             f"must not exceed [ocean] salinity = {_show(so)} g/kg"
         )
+    h0 = values["initial"]["ice_thickness"]
+    if 0.0 < h0 < 0.01:
+        raise InputError(
+            f"{source('initial.ice_thickness')}: [initial] ice_thickness = {_show(h0)}: "
+            f"must be 0 (open water) or at least 0.01 m"
+        )
     start, end = values["run"]["start"], values["run"]["end"]
     if start is not None and end is not None and not parse_time(start) < parse_time(end):
         raise InputError(
@@ -315,6 +328,9 @@ class OceanSection(_Section):
     section: ClassVar[str] = "ocean"
     salinity: float = _default("ocean.salinity")
     heat_flux: float = _default("ocean.heat_flux")
+    mixed_layer_depth: float = _default("ocean.mixed_layer_depth")
+    salinity_restoring_time: float = _default("ocean.salinity_restoring_time")
+    new_ice_thickness: float = _default("ocean.new_ice_thickness")
 
 
 @dataclass(frozen=True)
@@ -347,6 +363,8 @@ class SnowSection(_Section):
     conductivity_model: str = _default("snow.conductivity_model")
     conductivity: float = _default("snow.conductivity")
     density: float = _default("snow.density")
+    flooding: str = _default("snow.flooding")
+    flooding_timescale: str = _default("snow.flooding_timescale")
 
 
 @dataclass(frozen=True)

@@ -36,4 +36,7 @@ ICE_CONDUCTIVITY = 2.03  # W m-1 K-1
 SNOW_CONDUCTIVITY = 0.31  # W m-1 K-1
 OCEAN_SALINITY = 34.0  # g kg-1
 GRAVITY = 9.81  # m s-2
+#: Sea water near its freezing point (gsw: rho(SA=35, CT=-1.9, p=0) = 1028.05 kg m-3), used for
+#: hydrostatic balance (draft, freeboard, flooding) and the mass of the ocean mixed layer.
+SEAWATER_DENSITY = 1028.0  # kg m-3
 SECONDS_PER_DAY = 86400.0  # s

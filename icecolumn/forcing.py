@@ -22,6 +22,9 @@ column                      units        meaning
 ``cloud_fraction``          1            cloud cover as a fraction in [0, 1]
 ``snow_thickness``          m            measured snow depth on the ice, >= 0
 ``snowfall``                kg m-2 s-1   snowfall rate as water equivalent, >= 0
+``ocean_temperature``       degC         ocean temperature below the ice or open water
+                                         (decides refreeze; gives the ocean heat flux
+                                         when there is no ``ocean_heat_flux`` column)
 ==========================  ===========  ==========================================
 
 All columns but ``time`` and ``air_temperature`` are optional.  Other columns
@@ -79,6 +82,7 @@ __all__ = [
     "read_forcing",
     "read_forcing_netcdf",
     "forcing_from_arrays",
+    "repeat_forcing",
     "DEFAULT_MAX_GAP",
 ]
 
@@ -156,6 +160,12 @@ VARIABLES: dict[str, dict[str, Any]] = {
         "range": (0.0, 0.1),
         "required": False,
     },
+    "ocean_temperature": {
+        "attrs": {"units": "degC", "long_name": "ocean temperature just below the ice or the open water surface",
+                  "standard_name": "sea_water_temperature"},
+        "range": (-3.0, 35.0),
+        "required": False,
+    },
 }
 
 #: Relative humidity above 100 % up to this value is clipped to 100 % with a warning
@@ -176,6 +186,7 @@ CF_STANDARD_NAMES: dict[str, tuple[str, ...]] = {
     "cloud_fraction": ("cloud_area_fraction",),
     "snow_thickness": ("surface_snow_thickness",),
     "snowfall": ("snowfall_flux",),
+    "ocean_temperature": ("sea_water_temperature", "sea_surface_temperature"),
 }
 
 _TEMPERATURE_UNITS = {
@@ -191,6 +202,7 @@ _HEAT_FLUX_UNITS = {u: (1.0, 0.0) for u in ("W m-2", "W m^-2", "W m**-2", "W/m2"
 NETCDF_UNITS: dict[str, dict[str, tuple[float, float]]] = {
     "air_temperature": _TEMPERATURE_UNITS,
     "surface_temperature": _TEMPERATURE_UNITS,
+    "ocean_temperature": _TEMPERATURE_UNITS,
     "ocean_heat_flux": _HEAT_FLUX_UNITS,
     "shortwave_down": _HEAT_FLUX_UNITS,
     "longwave_down": _HEAT_FLUX_UNITS,
@@ -803,3 +815,38 @@ def _times_from_any(time: Any, name: str, label: Callable[[int], str]) -> np.nda
     if nat.any():
         raise InputError(f"{name}: {label(int(np.flatnonzero(nat)[0]))}: time is missing (NaT)")
     return times
+
+
+def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
+    """The forcing repeated ``times`` times end to end (for spin-up and multi-year runs).
+
+    The period is the forcing's span plus one time step (its last step), so an hourly year
+    from 15 Sep 00:00 to 14 Sep 23:00 repeats every 365 days exactly.
+
+    Parameters
+    ----------
+    forcing : xarray.Dataset
+        A forcing Dataset from one of the readers.
+    times : int
+        Number of copies, >= 1.
+
+    Returns
+    -------
+    xarray.Dataset
+        Same variables; ``attrs["repeated"]`` records the count.
+    """
+    if int(times) < 1:
+        raise InputError(f"repeat_forcing: times must be at least 1, got {times}")
+    t = forcing["time"].values.astype("datetime64[ns]")
+    if t.size < 2:
+        raise InputError("repeat_forcing: the forcing needs at least two times")
+    period = t[-1] - t[0] + (t[-1] - t[-2])
+    copies = []
+    for i in range(int(times)):
+        part = forcing.copy()
+        part = part.assign_coords(time=t + i * period)
+        copies.append(part)
+    out = xr.concat(copies, dim="time") if len(copies) > 1 else copies[0]
+    out.attrs = dict(forcing.attrs)
+    out.attrs["repeated"] = int(times)
+    return out

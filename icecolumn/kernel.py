@@ -86,11 +86,12 @@ from __future__ import annotations
 import numpy as np
 from numba import njit, prange
 
-from .constants import GRAVITY
+from .constants import GRAVITY, SEAWATER_DENSITY
 from .phase import brine_salinity_derivative_scalar, invert_enthalpy_guess_scalar, invert_enthalpy_scalar, \
     liquidus_temperature_scalar
 from .properties import conductivity_scalar
-from .surface import PENETRATION_ICE, albedo_scalar, longwave_down_scalar, net_surface_flux_scalar
+from .surface import PENETRATION_ICE, albedo_scalar, longwave_down_scalar, net_surface_flux_scalar, \
+    net_water_flux_scalar
 
 # ---------------------------------------------------------------------------------------
 # parameter vector layout (one row per member)
@@ -125,9 +126,14 @@ P_DBETA = 26  # brine density slope d rho / d S_br [kg m-3 (g/kg)-1]
 P_WIND = 27  # wind speed when the forcing has none [m s-1]
 P_RHOSNOW = 28  # snow density [kg m-3]
 P_FLUSH = 29  # fraction of surface melt water flushing down through permeable ice [1]
-NPAR = 32
+P_MLD = 30  # depth of the slab ocean mixed layer [m] (0: none, water at its freezing point)
+P_H0 = 31  # thickness of new ice formed in open water [m]
+P_FLOODTAU = 32  # relaxation time of flooding to zero freeboard [s] (0: no flooding)
+P_MLTAU = 33  # restoring time of the mixed-layer salinity to the ocean salinity [s] (0: none)
+P_SREF = 34  # ocean salinity the mixed layer is restored to [g/kg]
+NPAR = 36
 
-NBUDGET = 15
+NBUDGET = 27
 B_E_SURF = 0
 B_E_OCEAN = 1
 B_E_WATER = 2
@@ -143,6 +149,18 @@ B_H_BMELT = 11
 B_SNOW = 12  # not cumulative: the prognostic snow thickness [m]
 B_S_FLUSH = 13
 B_E_FLUSH = 14
+B_E_FLOOD_SNOW = 15  # enthalpy of the snow turned into snow-ice [J m-2]
+B_E_FLOOD_WATER = 16  # enthalpy of the sea water that flooded it [J m-2]
+B_H_SNOWICE = 17  # snow-ice formed [m]
+B_FRAZIL = 18  # not cumulative: heat taken from open water at its freezing point, not yet new ice [J m-2]
+B_E_MELTOUT = 19  # minus the enthalpy of the last ice given to the ocean at melt-out [J m-2]
+B_ML_E = 20  # not cumulative: enthalpy of the mixed layer (reference liquid at 0 degC) [J m-2]
+B_ML_W = 21  # not cumulative: mass of the mixed layer [kg m-2]
+B_ML_S = 22  # not cumulative: salt in the mixed layer [kg m-2]
+B_E_ML_SURF = 23  # heat into the open-water surface of the mixed layer [J m-2]
+B_E_ML_DEEP = 24  # heat from the deep ocean into the mixed layer (or into freezing open water) [J m-2]
+B_SNOWFALL = 25  # snowfall that reached the snow or the mixed layer [kg m-2]
+B_S_ML_DEEP = 26  # salt exchanged with the deep ocean by restoring the mixed-layer salinity [kg m-2]
 
 SURFACE_SCHEMES = {"linear": 0, "prescribed": 1, "energy_balance": 2}
 
@@ -157,9 +175,11 @@ F_WIND = 6  # wind speed [m s-1]
 F_RH = 7  # relative humidity (water) [%]
 F_SNOWDEPTH = 8  # measured snow depth [m]
 F_SNOWFALL = 9  # snowfall [kg m-2 s-1 water equivalent]
-NFORCING = 10
+F_TOCEAN = 10  # ocean temperature under the ice / in open water [degC]
+NFORCING = 11
 FORCING_NAMES = ("air_temperature", "surface_temperature", "ocean_heat_flux", "shortwave_down",
-                 "longwave_down", "cloud_fraction", "wind_speed", "relative_humidity", "snow_thickness", "snowfall")
+                 "longwave_down", "cloud_fraction", "wind_speed", "relative_humidity", "snow_thickness", "snowfall",
+                 "ocean_temperature")
 
 # TR-BDF2 coefficients
 _GAMMA = 2.0 - np.sqrt(2.0)
@@ -173,6 +193,19 @@ _E2 = _W - (3.0 * _W + 1.0) / 3.0
 _E3 = _D - _D / 3.0
 
 H_MIN = 0.005  # m, melting is throttled to zero at this thickness
+H_OUT = 0.01  # m, melting ice thinner than this melts out completely (open water)
+#: Heat transfer velocity between the mixed layer and the ice base, c_h u_* with the Stanton
+#: number c_h = 0.006 (McPhee 1992, JGR 97, 5365; from memory) and a friction velocity of
+#: 0.01 m s-1 (common practice, no source) [m s-1].
+ML_EXCHANGE_VELOCITY = 0.006 * 0.01
+#: Open water warmer than its freezing point by less than this [K] counts as at freezing when an
+#: ``ocean_temperature`` forcing decides refreeze (instrument resolution; common practice, no source).
+FREEZING_TOLERANCE = 0.02
+#: Solid fraction of the new ice formed in open water (model choice, no source): the new layer
+#: enters with the ocean's salinity and half of its pore-free latent heat removed.
+NEW_ICE_SOLID_FRACTION = 0.5
+#: Longest time step in open water [s] (explicit Heun steps of a 0-d budget).
+OPEN_WATER_STEP = 3600.0
 DENOM_MIN = 0.02  # fraction of rho L bounding the basal enthalpy jump
 
 
@@ -511,14 +544,32 @@ def _flushing(n, par, a, temp, phi, sbr, f):
 
 
 @njit(cache=True)
-def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra, a_in):
+def _snow_ice_content(par):
+    """Enthalpy [J m-3] and salt [kg m-3] of snow-ice: snow (density rho_s, taken at the sea
+    water freezing point) whose pores are filled with sea water, liquid fraction 1 - rho_s/rho.
+
+    Returns (H, salt, H of the snow part, H of the sea water part)."""
+    rho = par[P_RHO]
+    rs = par[P_RHOSNOW]
+    tf = liquidus_temperature_scalar(par[P_SW])
+    h_snow = rs * (par[P_CS] * tf - par[P_L])
+    h_water = (rho - rs) * par[P_CL] * tf
+    return h_snow + h_water, (rho - rs) * par[P_SW] / 1000.0, h_snow, h_water
+
+
+@njit(cache=True)
+def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra, a_in, af):
     """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
 
     ``r`` is the basal velocity used by the advective fluxes; ``a_in`` >= 0 is the surface
     melt rate to use (the implicit stages take the rate of the step's start, which keeps the
-    Newton system smooth; conservation is unaffected), a negative value computes it here. If ``want_cells`` the
-    intensive arrays are (re)computed first. Returns the surface temperature and the
-    derivative of the surface flux w.r.t. the top temperature.
+    Newton system smooth; conservation is unaffected), a negative value computes it here.
+    ``af`` >= 0 is the rate of snow-ice formation at the top [m s-1] (also held over a step).
+    The top of the ice moves down at ``a - af``.  If ``want_cells`` the intensive arrays are
+    (re)computed first.  ``fw`` is the heat flux into the ice base; with a mixed layer the
+    forcing's ocean heat flux ``fv[F_QOCEAN]`` enters the mixed layer from below instead.
+    Returns the surface temperature, the derivative of the surface flux w.r.t. the top
+    temperature and the surface melt rate.
     """
     if want_cells:
         _cells(y, n, par, temp, phi, sbr, dtde, dtdm, kc)
@@ -533,16 +584,27 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     # melt energy goes to the snow first (smoothly handed to the ice as the last cm melts)
     fsnow = hs / 0.01 if hs < 0.01 else 1.0
     a = _surface_melt_rate(y, n, par, (1.0 - fsnow) * melt) if a_in < 0.0 else a_in
+    anet = a - af
     used = a * (-y[0] / dz)  # melt energy used: melts ice into water at 0 degC (H = 0)
     for i in range(2 * n + 1 + NBUDGET):
         f[i] = 0.0
-    # face 0 (surface): conduction + melt energy in; melt water (H = 0) and its salt out
+    # face 0 (surface): conduction + melt energy in; melt water (H = 0) and its salt out;
+    # snow-ice (flooded snow) in
     f[0] += f0 + used
     s_top = a * y[n] / dz
     f[n] -= s_top
-    # interior faces; face j moves down at (1 - j/n) a + (j/n) r relative to the ice
+    nb = 2 * n + 1
+    if af > 0.0:
+        hsi, msi, hsnow, hwater = _snow_ice_content(par)
+        f[0] += af * hsi
+        f[n] += af * msi
+        f[nb + B_E_FLOOD_SNOW] = af * hsnow
+        f[nb + B_E_FLOOD_WATER] = af * hwater
+        f[nb + B_S_ENTRAIN] += af * msi
+        f[nb + B_H_SNOWICE] = af
+    # interior faces; face j moves down at (1 - j/n) anet + (j/n) r relative to the ice
     for j in range(1, n):
-        kf, fc, ae, am = _face_fluxes(y, j, n, r, a, kc, temp, dz)
+        kf, fc, ae, am = _face_fluxes(y, j, n, r, anet, kc, temp, dz)
         f[j - 1] -= fc + ae
         f[j] += fc + ae
         f[n + j - 1] -= am
@@ -554,14 +616,17 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         sm = r * y[2 * n - 1] / dz
     f[n - 1] += fw + r * hw
     f[2 * n - 1] += sm
-    f[2 * n] = r - a
-    nb = 2 * n + 1
+    f[2 * n] = r - anet
     f[nb + B_E_SURF] = f0 + used
     f[nb + B_S_SURFMELT] = s_top
     f[nb + B_H_SURFMELT] = a
-    if fv[F_SNOWDEPTH] != fv[F_SNOWDEPTH]:  # prognostic snow: snowfall minus snow melt
+    snowmelt = 0.0  # snow melt water [kg m-2 s-1]
+    if fv[F_SNOWDEPTH] != fv[F_SNOWDEPTH]:  # prognostic snow: snowfall minus snow melt and flooding
         sf = fv[F_SNOWFALL]
-        f[nb + B_SNOW] = (sf if sf == sf else 0.0) / par[P_RHOSNOW] - fsnow * melt / (par[P_RHOSNOW] * par[P_L])
+        sf = sf if sf == sf else 0.0
+        snowmelt = fsnow * melt / par[P_L]
+        f[nb + B_SNOW] = (sf - snowmelt) / par[P_RHOSNOW] - af
+        f[nb + B_SNOWFALL] = sf
     if r > 0.0:
         f[nb + B_H_GROW] = r
     else:
@@ -569,7 +634,7 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     f[nb + B_E_OCEAN] = fw
     f[nb + B_E_WATER] = r * hw
     if sm > 0.0:
-        f[nb + B_S_ENTRAIN] = sm
+        f[nb + B_S_ENTRAIN] += sm
     else:
         f[nb + B_S_MELT] = -sm
     if int(par[P_DRAIN]) != 0:
@@ -600,12 +665,25 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         f[nb + B_V_DRAIN] = win
     if par[P_FLUSH] > 0.0 and a > 0.0:
         _flushing(n, par, a, temp, phi, sbr, f)
+    if par[P_MLD] > 0.0:
+        # the mixed layer gives the ice exactly what the ice's boundary terms take from the ocean
+        deep = fv[F_QOCEAN]
+        f[nb + B_E_ML_DEEP] = deep
+        f[nb + B_ML_E] = (deep - f[nb + B_E_OCEAN] - f[nb + B_E_WATER] - f[nb + B_E_DRAIN] - f[nb + B_E_FLUSH]
+                          - f[nb + B_E_FLOOD_WATER])
+        f[nb + B_ML_W] = rho * (anet - r) + par[P_RHOSNOW] * af + snowmelt
+        salt_in = -sm + s_top + f[nb + B_S_DRAIN] + f[nb + B_S_FLUSH]
+        if af > 0.0:
+            salt_in -= af * (rho - par[P_RHOSNOW]) * par[P_SW] / 1000.0
+        f[nb + B_ML_S] = salt_in + _restoring(y, n, par)
+        f[nb + B_S_ML_DEEP] = _restoring(y, n, par)
     return ts, df0, a
 
 
 @njit(cache=True)
 def _dr_column(y, r, a, n, par, col):
-    """d f_cells / d r (the rhs is piecewise linear in r); ``a`` is the surface melt rate."""
+    """d f_cells / d r (the rhs is piecewise linear in r); ``a`` is the net downward velocity of
+    the top (surface melt minus snow-ice formation)."""
     rho = par[P_RHO]
     h = y[2 * n]
     dz = h / n
@@ -643,8 +721,9 @@ def _brine_content_derivatives(phi, temp, dtde, dtdm, dz, cw):
 
 
 @njit(cache=True)
-def _blocks(y, r, a, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux):
-    """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m]).
+def _blocks(y, r, a, amelt, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux):
+    """Blocks of A = I - a dt d f_cells / d cells (2x2 per layer: [e, m]); ``a`` is the net
+    downward velocity of the top, ``amelt`` its surface-melt part.
 
     Drainage enters with its local part only: the exchange of each layer with the layer
     below at the current return flow (the dependence of the flow itself on the state,
@@ -693,7 +772,7 @@ def _blocks(y, r, a, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, s
             lo[j, 3] += c
     if r <= 0.0:
         di[n - 1, 3] += r / dz
-    di[0, 3] -= a / dz  # salt leaving with surface melt water
+    di[0, 3] -= amelt / dz  # salt leaving with surface melt water
     if int(par[P_DRAIN]) != 0:
         rho = par[P_RHO]
         rcl = rho * par[P_CL]
@@ -813,18 +892,19 @@ def _err_norm(vec, y, n, par, ny):
 
 
 @njit(cache=True)
-def _dh_column(y, r, a, n, par, f, temp, dtde, dtdm, kc, df0, dtdh, col):
-    """d f_cells / d h at fixed layer contents, basal velocity ``r`` and melt rate ``a``."""
+def _dh_column(y, r, a, amelt, n, par, f, temp, dtde, dtdm, kc, df0, dtdh, col):
+    """d f_cells / d h at fixed layer contents, basal velocity ``r``, net top velocity ``a`` and
+    surface melt rate ``amelt`` (the snow-ice source does not depend on h)."""
     h = y[2 * n]
     dz = h / n
     for k in range(n):
         dtdh[k] = -(dtde[k] * y[k] + dtdm[k] * y[n + k]) / h  # intensive state thins with h
     for i in range(2 * n):
         col[i] = 0.0
-    used = a * (-y[0] / dz)
+    used = amelt * (-y[0] / dz)
     f0 = f[2 * n + 1 + B_E_SURF] - used
     col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used / h
-    col[n] += a * y[n] / dz / h
+    col[n] += amelt * y[n] / dz / h
     for j in range(1, n):
         kf, fc, ae, am = _face_fluxes(y, j, n, r, a, kc, temp, dz)
         dfc = -fc / h + kf / dz * (dtdh[j - 1] - dtdh[j])
@@ -838,7 +918,7 @@ def _dh_column(y, r, a, n, par, f, temp, dtde, dtdm, kc, df0, dtdh, col):
 
 @njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc,
-                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in):
+                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in, af):
     """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r).
 
     ``sc`` (9, n + 1) is scratch space for the perturbed evaluation of the thickness column,
@@ -851,7 +931,9 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         h = y[2 * n]
         if not (h > 0.0):
             return False, r
-        _ts, df0, atop = _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in)
+        _ts, df0, amelt = _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra,
+                               a_in, af)
+        atop = amelt - af
         # residuals (negated, as Newton rhs)
         for i in range(ncell):
             rhs[0, i] = -(y[i] - base[i] - a_dt * f[i])
@@ -864,7 +946,7 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         dh = 1e-7 * h
         for i in range(2 * n + 1 + NBUDGET):
             ytmp[i] = y[i]
-        _dh_column(y, r, atop, n, par, f, temp, dtde, dtdm, kc, df0, sc[0, :n], ftmp)
+        _dh_column(y, r, atop, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc[0, :n], ftmp)
         for i in range(ncell):
             rhs[1, i] = -a_dt * ftmp[i]  # B column (h)
         # border row for r: d hdot / d (e_b, m_b, h)
@@ -882,7 +964,7 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         _dr_column(y, r, atop, n, par, col_r)
         for i in range(ncell):
             rhs[2, i] = -a_dt * col_r[i]  # B column (r)
-        _blocks(y, r, atop, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux)
+        _blocks(y, r, atop, amelt, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux)
         _block_solve(n, lo, di, up, rhs, 3, work_m, work_g)
         # Schur complement: unknowns (dh, dr); rows h: dh - a_dt dr = res_h
         # row r: -dhd_de dx_e_b - dhd_dm dx_m_b - dhd_dh dh + dr = res_r
@@ -922,7 +1004,12 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
 
 @njit(cache=True)
 def _forcing_at(ft, forc, t, i0, par, out):
-    """All forcing variables at time t into ``out``; ocean heat flux defaults to the parameter."""
+    """All forcing variables at time t into ``out``.
+
+    The ocean heat flux defaults to the ``[ocean] heat_flux`` parameter; without a mixed layer
+    and with an ``ocean_temperature`` forcing it is the turbulent flux
+    rho_w c_l (c_h u_*) max(T_o - T_f, 0) instead.
+    """
     i = i0
     for v in range(NFORCING):
         if forc[v, 0] != forc[v, 0]:  # variable absent for this member (whole row NaN)
@@ -930,19 +1017,232 @@ def _forcing_at(ft, forc, t, i0, par, out):
             continue
         out[v], i = _interp(ft, forc[v], t, i0)
     if out[F_QOCEAN] != out[F_QOCEAN]:
-        out[F_QOCEAN] = par[P_FW]
+        to = out[F_TOCEAN]
+        if to == to and par[P_MLD] <= 0.0:
+            dtw = to - liquidus_temperature_scalar(par[P_SW])
+            out[F_QOCEAN] = SEAWATER_DENSITY * par[P_CL] * ML_EXCHANGE_VELOCITY * (dtw if dtw > 0.0 else 0.0)
+        else:
+            out[F_QOCEAN] = par[P_FW]
     return i
 
 
 @njit(cache=True)
-def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
+def mixed_layer_state(y, n, par):
+    """Temperature [degC], salinity [g/kg] and freezing temperature [degC] of the mixed layer."""
+    nb = 2 * n + 1
+    w = y[nb + B_ML_W]
+    s = 1000.0 * y[nb + B_ML_S] / w
+    return y[nb + B_ML_E] / (par[P_CL] * w), s, liquidus_temperature_scalar(s)
+
+
+@njit(cache=True)
+def _restoring(y, n, par):
+    """Salt flux from the deep ocean restoring the mixed-layer salinity to P_SREF [kg m-2 s-1]."""
+    tau = par[P_MLTAU]
+    if tau <= 0.0:
+        return 0.0
+    nb = 2 * n + 1
+    return (y[nb + B_ML_W] * par[P_SREF] / 1000.0 - y[nb + B_ML_S]) / tau
+
+
+@njit(cache=True)
+def _freeboard(y, n, par, hs):
+    """Hydrostatic freeboard [m] of ice with snow depth ``hs`` (model ice density)."""
+    h = y[2 * n]
+    return h - (par[P_RHO] * h + par[P_RHOSNOW] * hs) / SEAWATER_DENSITY
+
+
+@njit(cache=True)
+def _flooding_rate(y, n, par, fv, dt):
+    """Rate of snow-ice formation [m s-1] held over a step of length ``dt``.
+
+    Converting snow of thickness d into snow-ice (its pores filled with sea water, mass
+    (rho - rho_s) d added) raises the freeboard by d (1 - (rho - rho_s)/rho_w); the thickness
+    that restores zero freeboard is therefore d = -f rho_w / (rho_w - rho + rho_s) (the
+    hydrostatic snow-ice argument of Leppaeranta 1983, Geophysica 19; written for the model's
+    equal ice and brine densities).  It forms over ``[snow] flooding_timescale``, and never
+    more than d within one step.
+    """
+    tau = par[P_FLOODTAU]
+    if tau <= 0.0:
+        return 0.0
+    hs = _snow_depth(fv, y, n)
+    if hs <= 0.0:
+        return 0.0
+    fb = _freeboard(y, n, par, hs)
+    if fb >= 0.0:
+        return 0.0
+    rho_w = SEAWATER_DENSITY
+    d = -fb * rho_w / (rho_w - par[P_RHO] + par[P_RHOSNOW])
+    rate = d / tau
+    if rate * dt > d:
+        rate = d / dt
+    return rate
+
+
+@njit(cache=True)
+def _melt_out(y, n, par):
+    """The last ice (thinner than H_OUT and melting) goes to the ocean: its enthalpy, salt,
+    mass and any snow on it; the column becomes open water (h = 0)."""
+    nb = 2 * n + 1
+    e = 0.0
+    m = 0.0
+    for k in range(n):
+        e += y[k]
+        m += y[n + k]
+        y[k] = 0.0
+        y[n + k] = 0.0
+    h = y[2 * n]
+    hs = y[nb + B_SNOW]
+    if hs < 0.0:
+        hs = 0.0
+    y[nb + B_E_MELTOUT] -= e
+    y[nb + B_S_MELT] += m
+    y[nb + B_H_BMELT] += h
+    if par[P_MLD] > 0.0:
+        y[nb + B_ML_E] += e
+        y[nb + B_ML_S] += m
+        y[nb + B_ML_W] += par[P_RHO] * h + par[P_RHOSNOW] * hs
+    y[nb + B_SNOW] = 0.0
+    y[2 * n] = 0.0
+
+
+@njit(cache=True)
+def new_ice_heat(par):
+    """Heat [J m-2] open water at its freezing point must lose to form the new ice layer of
+    thickness ``P_H0``: h0 (H_water - H_new), H_new the enthalpy of ice of the ocean's salinity
+    with the solid fraction NEW_ICE_SOLID_FRACTION (brine salinity S_w / (1 - solid fraction))."""
+    rho = par[P_RHO]
+    sw = par[P_SW]
+    tf = liquidus_temperature_scalar(sw)
+    x = NEW_ICE_SOLID_FRACTION
+    tb = liquidus_temperature_scalar(sw / (1.0 - x))
+    h_new = rho * (((1.0 - x) * par[P_CL] + x * par[P_CS]) * tb - x * par[P_L])
+    return par[P_H0] * (rho * par[P_CL] * tf - h_new)
+
+
+@njit(cache=True)
+def _form_new_ice(y, n, par):
+    """Open water that has lost the heat of :func:`new_ice_heat` freezes: a layer of P_H0 of
+    sea water (its enthalpy and salt taken from the ocean) minus the heat already lost."""
+    nb = 2 * n + 1
+    rho = par[P_RHO]
+    h0 = par[P_H0]
+    tf = liquidus_temperature_scalar(par[P_SW])
+    ew = rho * par[P_CL] * tf * h0
+    mwt = rho * par[P_SW] / 1000.0 * h0
+    e_new = ew + y[nb + B_FRAZIL]
+    for k in range(n):
+        y[k] = e_new / n
+        y[n + k] = mwt / n
+    y[2 * n] = h0
+    y[nb + B_FRAZIL] = 0.0
+    y[nb + B_E_WATER] += ew
+    y[nb + B_S_ENTRAIN] += mwt
+    y[nb + B_H_GROW] += h0
+    if par[P_MLD] > 0.0:
+        y[nb + B_ML_E] -= ew
+        y[nb + B_ML_W] -= rho * h0
+        y[nb + B_ML_S] -= mwt
+
+
+@njit(cache=True)
+def _open_water_rates(y, n, par, fv, g):
+    """Tendencies of the budget components over open water (g has the state's length).
+
+    With a mixed layer, its temperature follows the open-water surface flux and the deep ocean
+    heat flux until it reaches its freezing point; then (and always without a mixed layer, the
+    water being at its freezing point, or at the forcing's ocean_temperature) heat lost at
+    the surface collects in B_FRAZIL until it is enough to form new ice.
+    """
+    nb = 2 * n + 1
+    for i in range(g.size):
+        g[i] = 0.0
+    ta = fv[F_AIR]
+    sf = fv[F_SNOWFALL]
+    sf = sf if sf == sf else 0.0
+    deep = fv[F_QOCEAN]
+    if par[P_MLD] > 0.0:
+        tw, _s, tf = mixed_layer_state(y, n, par)
+    else:
+        tf = liquidus_temperature_scalar(par[P_SW])
+        tw = tf
+    if int(par[P_SURF]) == 2:
+        sw = fv[F_SW]
+        if sw != sw:
+            sw = 0.0
+        lw = fv[F_LW]
+        if lw != lw:
+            cloud = fv[F_CLOUD]
+            lw = longwave_down_scalar(ta, cloud if cloud == cloud else 0.5)
+        wind = fv[F_WIND]
+        if wind != wind:
+            wind = par[P_WIND]
+        rh = fv[F_RH]
+        if rh != rh:
+            rh = 90.0
+        fs = net_water_flux_scalar(tw, ta, sw, lw, wind, rh)
+    else:
+        fs = par[P_HTC] * (ta - tw)
+    if par[P_MLD] > 0.0:
+        g[nb + B_ML_W] = sf
+        g[nb + B_SNOWFALL] = sf
+        g[nb + B_ML_S] = _restoring(y, n, par)
+        g[nb + B_S_ML_DEEP] = g[nb + B_ML_S]
+        g[nb + B_E_ML_DEEP] = deep
+        if tw <= tf and fs + deep < 0.0:
+            g[nb + B_FRAZIL] = fs + deep
+            g[nb + B_E_SURF] = fs
+            g[nb + B_E_OCEAN] = deep  # passed on by the mixed layer at its freezing point
+        else:
+            g[nb + B_ML_E] = fs + deep
+            g[nb + B_E_ML_SURF] = fs
+        return
+    to = fv[F_TOCEAN]
+    if to == to and to > tf + FREEZING_TOLERANCE:
+        return  # the ocean is warmer than its freezing point: nothing freezes
+    if fs + deep < 0.0:
+        g[nb + B_FRAZIL] = fs + deep
+        g[nb + B_E_SURF] = fs
+        g[nb + B_E_OCEAN] = deep
+
+
+@njit(cache=True)
+def _open_water_step(y, t, dt, n, par, ft, forc, idx, fv, g1, g2, ytmp):
+    """One explicit Heun step of the open-water budgets; returns the forcing index hint."""
+    idx = _forcing_at(ft, forc, t, idx, par, fv)
+    _open_water_rates(y, n, par, fv, g1)
+    for i in range(y.size):
+        ytmp[i] = y[i] + dt * g1[i]
+    _forcing_at(ft, forc, t + dt, idx, par, fv)
+    _open_water_rates(ytmp, n, par, fv, g2)
+    for i in range(y.size):
+        y[i] = y[i] + 0.5 * dt * (g1[i] + g2[i])
+    if par[P_MLD] > 0.0:
+        nb = 2 * n + 1
+        tw, _s, tf = mixed_layer_state(y, n, par)
+        if tw < tf:  # the step overshot the freezing point: that heat loss makes frazil instead
+            excess = y[nb + B_ML_E] - par[P_CL] * y[nb + B_ML_W] * tf
+            y[nb + B_ML_E] -= excess
+            y[nb + B_FRAZIL] += excess
+            y[nb + B_E_OCEAN] += excess
+    return idx
+
+
+@njit(cache=True)
+def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
     """Advance one member's state from t0 to t1 in place. Returns a status code.
 
     0 success; 1 step size underflow (solver failure). nsteps_out[0] counts accepted
     steps, nsteps_out[1] rejected steps, nsteps_out[2] Newton iterations (approximate).
+    Open water (h = 0) is stepped by :func:`_open_water_step` until new ice forms; ice that
+    melts below H_OUT melts out (:func:`_melt_out`).
     """
     ny = y.size
     ncell = 2 * n
+    nb = ncell + 1
+    par = par_in.copy()  # the ocean salinity follows the mixed layer, step by step
+    mixed = par[P_MLD] > 0.0
     f1 = np.empty(ny)
     f2 = np.empty(ny)
     f3 = np.empty(ny)
@@ -979,6 +1279,23 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
     maxdt = par[P_MAXDT]
     idx = 0
     while t < t1:
+        if mixed:
+            _tw, s_ml, _tf = mixed_layer_state(y, n, par)
+            par[P_SW] = s_ml
+        if not (y[2 * n] > 0.0):
+            # open water
+            dto = OPEN_WATER_STEP if OPEN_WATER_STEP < maxdt else maxdt
+            last = t + dto >= t1 - 1e-9 * (1.0 + abs(t1))
+            if last:
+                dto = t1 - t
+            idx = _open_water_step(y, t, dto, n, par, ft, forc, idx, fv1, f1, f2, ytmp)
+            nsteps_out[0] += 1
+            t = t1 if last else t + dto
+            if y[nb + B_FRAZIL] <= -new_ice_heat(par):
+                _form_new_ice(y, n, par)
+                temp[:] = np.nan
+                dt = par[P_INITDT]
+            continue
         if dt > maxdt:
             dt = maxdt
         last = False
@@ -991,13 +1308,21 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
         idx = _forcing_at(ft, forc, t, idx, par, fv1)
         i2 = _forcing_at(ft, forc, t + _GAMMA * dt, idx, par, fv2)
         _forcing_at(ft, forc, t + dt, i2, par, fv3)
-        fw1 = fv1[F_QOCEAN]
-        fw2 = fv2[F_QOCEAN]
-        fw3 = fv3[F_QOCEAN]
+        if mixed:
+            # heat from the mixed layer to the ice base, held over the step
+            tw, _s, tf = mixed_layer_state(y, n, par)
+            fw1 = SEAWATER_DENSITY * par[P_CL] * ML_EXCHANGE_VELOCITY * (tw - tf)
+            fw2 = fw1
+            fw3 = fw1
+        else:
+            fw1 = fv1[F_QOCEAN]
+            fw2 = fv2[F_QOCEAN]
+            fw3 = fv3[F_QOCEAN]
+        af = _flooding_rate(y, n, par, fv1, dt)
         # stage 1 (explicit)
         r1 = _hdot_of_state(y, n, par, fw1)
         _ts1, _df1, a_in = _rhs(y, r1, n, par, fv1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra,
-                                -1.0)  # surface melt rate of the step's start, kept for its stages
+                                -1.0, af)  # surface melt rate of the step's start, kept for its stages
         # stage 2
         for i in range(ny):
             base[i] = y[i] + dt * _D * f1[i]
@@ -1006,11 +1331,11 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
             y2[2 * n] = y[2 * n]
         ok, r2 = _newton_stage(y2, base, _D * dt, n, par, fv2, fw2, f2, temp, phi, sbr, dtde,
                                dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
-                               wflux, qsink, ra, sc, a_in)
+                               wflux, qsink, ra, sc, a_in, af)
         nsteps_out[2] += 1
         if ok:
             r2 = _hdot_of_state(y2, n, par, fw2)
-            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in)
+            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in, af)
             for i in range(ny):
                 base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
                 y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
@@ -1018,13 +1343,13 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
                 y3[2 * n] = y2[2 * n]
             ok, r3 = _newton_stage(y3, base, _D * dt, n, par, fv3, fw3, f3, temp, phi, sbr,
                                    dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
-                                   col_r, 10, wflux, qsink, ra, sc, a_in)
+                                   col_r, 10, wflux, qsink, ra, sc, a_in, af)
         if not ok:
             dt *= 0.25
             nsteps_out[1] += 1
             continue
         r3 = _hdot_of_state(y3, n, par, fw3)
-        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in)
+        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in, af)
         for i in range(ny):
             err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
         en = _err_norm(err, y, n, par, 2 * n + 1)
@@ -1042,6 +1367,11 @@ def _step_member(y, t0, t1, n, par, ft, forc, nsteps_out):
             y[i] = y[i] + dt * (_B1 * f1[i] + _B2 * f2[i] + _B3 * f3[i])
         nsteps_out[0] += 1
         t = t1 if last else t + dt
+        if y[2 * n] < H_OUT and f3[2 * n] < 0.0:
+            _melt_out(y, n, par)
+            temp[:] = np.nan
+            dt = par[P_INITDT]
+            continue
         if en < 1e-10:
             fac = 5.0
         else:
@@ -1097,19 +1427,44 @@ def diagnose(ys, n, pars, ft, forc, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra,
     fv = np.empty(NFORCING)
     for mbr in range(nm):
         y = ys[mbr]
-        par = pars[mbr]
+        par = pars[mbr].copy()
+        if par[P_MLD] > 0.0:
+            tw, s_ml, _tf = mixed_layer_state(y, n, par)
+            par[P_SW] = s_ml
+        else:
+            tw = liquidus_temperature_scalar(par[P_SW])
+            _tf = tw
+        h = y[2 * n]
+        _forcing_at(ft, forc[mbr], t, 0, par, fv)
+        if not (h > 0.0):  # open water: no profiles
+            for k in range(n):
+                temp[mbr, k] = np.nan
+                phi[mbr, k] = np.nan
+                sbr[mbr, k] = np.nan
+                sal[mbr, k] = np.nan
+                kc[mbr, k] = np.nan
+                ra[mbr, k] = np.nan
+            to = fv[F_TOCEAN]
+            tsurf[mbr] = to if (to == to and par[P_MLD] <= 0.0) else tw
+            melt[mbr] = 0.0
+            snow[mbr] = 0.0
+            hdot[mbr] = 0.0
+            wbase[mbr] = 0.0
+            continue
         temp[mbr, :] = np.nan  # diagnostics never depend on earlier calls
         _cells(y, n, par, temp[mbr], phi[mbr], sbr[mbr], dtde, dtdm, kc[mbr])
-        h = y[2 * n]
         dz = h / n
         for k in range(n):
             sal[mbr, k] = 1000.0 * y[n + k] / (par[P_RHO] * dz)
-        _forcing_at(ft, forc[mbr], t, 0, par, fv)
         hs = _snow_depth(fv, y, n)
         _f, _d, ts, mx = _surface(temp[mbr, 0], kc[mbr, 0], dz, fv, par, hs)
         tsurf[mbr] = ts
         melt[mbr] = mx  # melt energy at the surface (snow first, then ice)
         snow[mbr] = hs
-        hdot[mbr] = _hdot_of_state(y, n, par, fv[F_QOCEAN])
+        if par[P_MLD] > 0.0:
+            fwb = SEAWATER_DENSITY * par[P_CL] * ML_EXCHANGE_VELOCITY * (tw - _tf)
+        else:
+            fwb = fv[F_QOCEAN]
+        hdot[mbr] = _hdot_of_state(y, n, par, fwb)
         _drainage(y, n, par, temp[mbr], phi[mbr], sbr[mbr], wflux, qsink, ra[mbr])
         wbase[mbr] = wflux[n]

@@ -85,6 +85,11 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
     p[K.P_TMELT] = 0.0
     p[K.P_WIND] = 5.0  # m s-1, used by the energy balance when the forcing has no wind_speed
+    p[K.P_MLD] = cfg.ocean.mixed_layer_depth
+    p[K.P_H0] = cfg.ocean.new_ice_thickness
+    p[K.P_MLTAU] = cfg.ocean.salinity_restoring_time * 86400.0
+    p[K.P_SREF] = cfg.ocean.salinity
+    p[K.P_FLOODTAU] = parse_duration(cfg.snow.flooding_timescale) if cfg.snow.flooding == "hydrostatic" else 0.0
     drainage_parameters(cfg, p)
     return p
 
@@ -121,6 +126,8 @@ def initial_state(cfg: Config, surface_temperature: float, profile: InitialProfi
     """
     n = cfg.grid.layers
     h = cfg.initial.ice_thickness
+    if h <= 0.0:
+        return open_water_state(cfg)
     tf = ocean_freezing_temperature(cfg)
     z = (np.arange(n) + 0.5) / n * h
     ts = min(surface_temperature, tf)
@@ -159,7 +166,30 @@ def state_from_profile(cfg: Config, thickness: float, temperature, bulk_salinity
     y[n:2 * n] = pr.ice_density * bulk_salinity / 1000.0 * dz
     y[2 * n] = thickness
     y[2 * n + 1 + K.B_SNOW] = cfg.initial.snow_thickness
+    _init_mixed_layer(cfg, y, n)
     return y
+
+
+def open_water_state(cfg: Config) -> np.ndarray:
+    """State vector of open water (thickness 0, no snow, zero budgets)."""
+    n = cfg.grid.layers
+    y = np.zeros(K.state_size(n))
+    _init_mixed_layer(cfg, y, n)
+    return y
+
+
+def _init_mixed_layer(cfg: Config, y: np.ndarray, n: int) -> None:
+    """A mixed layer of ``[ocean] mixed_layer_depth`` at ``[ocean] salinity`` and its freezing point."""
+    d = cfg.ocean.mixed_layer_depth
+    if d <= 0.0:
+        return
+    from .constants import SEAWATER_DENSITY
+
+    nb = 2 * n + 1
+    w = SEAWATER_DENSITY * d
+    y[nb + K.B_ML_W] = w
+    y[nb + K.B_ML_S] = w * cfg.ocean.salinity / 1000.0
+    y[nb + K.B_ML_E] = cfg.properties.brine_specific_heat * w * ocean_freezing_temperature(cfg)
 
 
 def _steady_surface_temperature(cfg: Config, air: float) -> float:
@@ -262,6 +292,10 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     interval = parse_duration(cfg0.output.interval)
     times = output_times(start, end, interval)
     tsec = _seconds(times)
+    for m in members:
+        if m.config.ocean.mixed_layer_depth > 0 and "ocean_temperature" in m.forcing:
+            raise InputError(f"{source}: the forcing has an ocean_temperature column and [ocean] mixed_layer_depth "
+                             f"is set; use one of the two (the mixed layer computes its own temperature)")
     ft, forc = _forcing_arrays(members, start)
     fa = forc[:, K.F_AIR]
     fts = forc[:, K.F_TSURF]

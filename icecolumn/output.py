@@ -66,12 +66,19 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     e_drain = b[..., K.B_E_DRAIN]
     v_drain = b[..., K.B_V_DRAIN]
     e_flush = b[..., K.B_E_FLUSH]
-    energy_input = e_surf + e_ocean + e_water + e_drain + e_flush
+    e_flood = b[..., K.B_E_FLOOD_SNOW] + b[..., K.B_E_FLOOD_WATER]
+    e_meltout = b[..., K.B_E_MELTOUT]
+    frazil = b[..., K.B_FRAZIL]
+    energy_input = e_surf + e_ocean + e_water + e_drain + e_flush + e_flood + e_meltout
+    ice = h > 0.0
+    with np.errstate(invalid="ignore", divide="ignore"):
+        h_layer = np.where(ice, h, np.nan)[..., None] / n
     rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
     salt_released = s_melt + s_drain + b[..., K.B_S_SURFMELT] + b[..., K.B_S_FLUSH]
     frac = (np.arange(n) + 0.5) / n
-    depth = h[..., None] * frac
-    bounds = np.stack([h[..., None] * (np.arange(n) / n), h[..., None] * ((np.arange(n) + 1) / n)], axis=-1)
+    hm = np.where(ice, h, np.nan)[..., None]  # no layers in open water
+    depth = hm * frac
+    bounds = np.stack([hm * (np.arange(n) / n), hm * ((np.arange(n) + 1) / n)], axis=-1)
     snow = raw.extra["snow_thickness"]
 
     dims_t = ("member", "time")
@@ -88,12 +95,17 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                        comment="capped at the melting point 0 degC"))
     v["air_temperature"] = (dims_t, raw.air_temperature_mean,
                             _attrs("degC", "air temperature (forcing)", "air_temperature", cm))
+    v["sea_ice_area_fraction"] = (dims_t, ice.astype(np.float64),
+                                  _attrs("1", "ice cover of the column (1 ice, 0 open water)", "sea_ice_area_fraction",
+                                         comment="open water after complete melt-out, until new ice forms"))
     v["growth_rate"] = (dims_t, _interval_rate(h, tsec),
                         _attrs("m s-1", "rate of change of ice thickness",
                                "tendency_of_sea_ice_thickness_due_to_thermodynamics", cm))
-    v["ocean_heat_flux"] = (dims_t, raw.ocean_heat_flux_mean,
+    v["ocean_heat_flux"] = (dims_t, _interval_rate(e_ocean, tsec),
                             _attrs("W m-2", "ocean heat flux into the ice base", None, cm,
-                                   source="; ".join(sorted(set(raw.ocean_heat_flux_source)))))
+                                   source="; ".join(sorted(set(raw.ocean_heat_flux_source))),
+                                   comment="interval mean of the change of energy_input_ocean (in open water: "
+                                           "only while the water freezes)"))
     v["temperature"] = (dims_tl, raw.temperature, _attrs("degC", "ice temperature of the layer",
                                                          "sea_ice_temperature"))
     v["bulk_salinity"] = (dims_tl, raw.bulk_salinity, _attrs("g kg-1", "bulk salinity of the layer",
@@ -104,7 +116,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                            "ice and brine densities"))
     v["brine_salinity"] = (dims_tl, raw.brine_salinity,
                            _attrs("g kg-1", "salinity of the brine in the pores (liquidus)"))
-    v["enthalpy"] = (dims_tl, e / (h[..., None] / n),
+    v["enthalpy"] = (dims_tl, e / h_layer,
                      _attrs("J m-3", "enthalpy per unit volume of the layer (reference liquid at 0 degC)"))
     v["salt_content"] = (dims_t, m.sum(-1), _attrs("kg m-2", "salt in the ice column",
                                                     "sea_ice_mass_content_of_salt"))
@@ -120,12 +132,23 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                       _attrs("kg m-2 s-1", "net salt flux from the ice base into the ocean",
                              "downward_sea_ice_basal_salt_flux", cm,
                              comment="interval mean of the change of salt_released; positive into the ocean"))
-    v["enthalpy_content"] = (dims_t, e.sum(-1), _attrs("J m-2", "enthalpy of the ice column "
-                                                                "(reference liquid at 0 degC)"))
+    v["enthalpy_content"] = (dims_t, e.sum(-1) + frazil,
+                             _attrs("J m-2", "enthalpy of the ice column (reference liquid at 0 degC)",
+                                    comment="in open water: minus the heat already lost towards new ice "
+                                            "(frazil_heat)"))
+    v["frazil_heat"] = (dims_t, -frazil, _attrs("J m-2", "heat lost by open water at its freezing point that "
+                                                         "has not yet formed new ice"))
     v["energy_input"] = (dims_t, energy_input,
                          _attrs("J m-2", f"net energy that entered the column, {cum}",
                                 comment="sum of energy_input_surface, energy_input_ocean, energy_input_water, "
-                                        "energy_input_drainage and energy_input_flushing"))
+                                        "energy_input_drainage, energy_input_flushing, energy_input_flooding and "
+                                        "energy_input_melt_out"))
+    v["energy_input_flooding"] = (dims_t, e_flood,
+                                  _attrs("J m-2", f"enthalpy of the snow and sea water that formed snow-ice, {cum}",
+                                         comment="snow taken at the sea-water freezing point"))
+    v["energy_input_melt_out"] = (dims_t, e_meltout,
+                                  _attrs("J m-2", f"minus the enthalpy of the last ice given to the ocean at "
+                                                  f"complete melt-out, {cum}"))
     v["energy_input_flushing"] = (dims_t, e_flush,
                                   _attrs("J m-2", f"enthalpy carried by flushing (melt water in minus brine out), {cum}"))
     v["salt_released_flushing"] = (dims_t, b[..., K.B_S_FLUSH],
@@ -149,7 +172,9 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                                      "melting point)", comment="instantaneous"))
     for name, idx, text in (("surface_melt", K.B_H_SURFMELT, "ice melted at the surface"),
                             ("basal_melt", K.B_H_BMELT, "ice melted at the base"),
-                            ("congelation_growth", K.B_H_GROW, "congelation ice grown at the base")):
+                            ("congelation_growth", K.B_H_GROW, "congelation ice grown at the base (and new ice "
+                                                               "formed in open water)"),
+                            ("snow_ice_growth", K.B_H_SNOWICE, "snow-ice formed by flooding of the snow")):
         v[name] = (dims_t, b[..., idx], _attrs("m", f"{text}, {cum}"))
     v["salt_released_surface_melt"] = (dims_t, b[..., K.B_S_SURFMELT],
                                        _attrs("kg m-2", f"salt carried to the ocean by surface melt water, {cum}"))
@@ -163,8 +188,8 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                                 f"{rho_w:g} kg m-3"))
     v["freeboard"] = (dims_t, h - draft, _attrs("m", "ice freeboard (height of the ice surface above the water "
                                                      "line)", "sea_ice_freeboard",
-                                               comment="negative freeboard would flood the snow (snow-ice is not "
-                                                       "modelled yet)"))
+                                               comment="negative freeboard floods the snow and forms snow-ice ([snow] "
+                                                       "flooding)"))
     v["rayleigh_number"] = (dims_tl, raw.extra["rayleigh_number"],
                             _attrs("1", "local mush Rayleigh number of the layer"))
     v["energy_input_surface"] = (dims_t, e_surf, _attrs("J m-2", f"heat conducted into the ice at its surface, {cum}"))
@@ -172,6 +197,26 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["energy_input_water"] = (dims_t, e_water,
                                _attrs("J m-2", f"enthalpy carried by sea water taken up (growth) or leaving "
                                                f"(melt) at the base, {cum}"))
+    if any(c.ocean.mixed_layer_depth > 0 for c in raw.configs):
+        from .phase import liquidus_temperature
+
+        cl = np.array([c.properties.brine_specific_heat for c in raw.configs])[:, None]
+        wml = b[..., K.B_ML_W]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            t_ml = np.where(wml > 0, b[..., K.B_ML_E] / (cl * wml), np.nan)
+            s_ml = np.where(wml > 0, 1000.0 * b[..., K.B_ML_S] / wml, np.nan)
+        v["mixed_layer_temperature"] = (dims_t, t_ml, _attrs("degC", "temperature of the ocean mixed layer",
+                                                             "sea_water_temperature"))
+        v["mixed_layer_salinity"] = (dims_t, s_ml, _attrs("g kg-1", "Absolute Salinity of the ocean mixed layer",
+                                                          "sea_water_absolute_salinity"))
+        v["mixed_layer_freezing_temperature"] = (dims_t, liquidus_temperature(np.nan_to_num(s_ml)),
+                                                 _attrs("degC", "freezing temperature of the mixed layer (model "
+                                                                "liquidus)"))
+        v["mixed_layer_heat_input_surface"] = (dims_t, b[..., K.B_E_ML_SURF],
+                                               _attrs("J m-2", f"heat into the open-water surface of the mixed "
+                                                               f"layer, {cum}"))
+        v["mixed_layer_heat_input_deep"] = (dims_t, b[..., K.B_E_ML_DEEP],
+                                            _attrs("J m-2", f"heat from the deep ocean into the mixed layer, {cum}"))
     v["depth"] = (dims_tl, depth, _attrs("m", "depth of the layer centre below the ice surface",
                                          positive="down",
                                          comment="layer top and bottom depths are in depth_bounds"))

@@ -22,6 +22,11 @@ al. 2001, Annals Glaciol. 33), surface pressure 1013.25 hPa.  Albedos: dry snow 
 bare ice 0.65 (Perovich et al. 2002, JGR 107(C10): dry snow 0.8-0.9, bare white ice 0.65),
 melting surface 0.40 (their late-July line average); penetrating fraction 0 under snow and
 0.17 for bare ice (from memory).
+
+Open water (:func:`net_water_flux_scalar`): the same bulk forms with vapour pressure over
+water and the latent heat of vaporisation 2.501e6 J kg-1, emissivity 0.97 and albedo 0.06
+(open-ocean albedo 0.06-0.07, Pegau & Paulson 2001, Annals Glaciol. 33; from memory); all
+absorbed shortwave stays in the water.
 """
 from __future__ import annotations
 
@@ -40,6 +45,9 @@ ALBEDO_SNOW = 0.85
 ALBEDO_ICE = 0.65
 ALBEDO_MELT = 0.40
 PENETRATION_ICE = 0.17
+ALBEDO_WATER = 0.06
+EMISSIVITY_WATER = 0.97
+VAPORISATION_HEAT = 2.501e6  # J kg-1
 
 
 @njit(cache=True)
@@ -97,6 +105,21 @@ def net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, albedo, i0):
          + turb * AIR_SPECIFIC_HEAT * (ta - ts) + turb * SUBLIMATION_HEAT * (qa - qs))
     df = -4.0 * eps * STEFAN_BOLTZMANN * tk ** 3 - turb * AIR_SPECIFIC_HEAT - turb * SUBLIMATION_HEAT * dqs
     return f, df
+
+
+@njit(cache=True)
+def net_water_flux_scalar(tw, ta, sw, lw, wind, rh):
+    """Net atmospheric flux into an open water surface at ``tw`` [degC] [W m-2] (positive down).
+
+    Parameters as :func:`net_surface_flux_scalar`; albedo 0.06, emissivity 0.97, evaporation
+    over water.
+    """
+    tk = tw + KELVIN
+    turb = AIR_DENSITY * TRANSFER_COEFFICIENT * wind
+    qa = specific_humidity_scalar(rh / 100.0 * saturation_vapour_pressure_scalar(ta, False))
+    qs = specific_humidity_scalar(saturation_vapour_pressure_scalar(tw, False))
+    return ((1.0 - ALBEDO_WATER) * sw + EMISSIVITY_WATER * lw - EMISSIVITY_WATER * STEFAN_BOLTZMANN * tk ** 4
+            + turb * AIR_SPECIFIC_HEAT * (ta - tw) + turb * VAPORISATION_HEAT * (qa - qs))
 
 
 def longwave_down(air_temperature, cloud_fraction):

@@ -16,7 +16,7 @@ import icecolumn as ic
 from icecolumn.forcing import forcing_from_arrays
 
 ENERGY_COMPONENTS = ("energy_input_surface", "energy_input_ocean", "energy_input_water", "energy_input_drainage",
-                     "energy_input_flushing")
+                     "energy_input_flushing", "energy_input_flooding", "energy_input_melt_out")
 SALT_RELEASED_COMPONENTS = ("salt_released_melt", "salt_released_drainage", "salt_released_surface_melt",
                             "salt_released_flushing")
 

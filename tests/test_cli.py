@@ -163,7 +163,7 @@ def test_missing_forcing_file(folder):
 BAD_CONFIG = {
     "unknown_key": ('[grid]\nlayer = 10\n', ["layer", "did you mean 'layers'"]),
     "too_few_layers": ('[grid]\nlayers = 2\n', ["layers", "at least 3"]),
-    "zero_thickness": ('[initial]\nice_thickness = 0\n', ["ice_thickness", "at least"]),
+    "too_thin": ('[initial]\nice_thickness = 0.005\n', ["ice_thickness", "at least 0.01"]),
 }
 
 

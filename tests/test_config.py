@@ -162,7 +162,9 @@ def test_unknown_key_without_close_match_lists_keys():
     [
         ("[grid]\nlayers = 2", "cfg.toml: [grid] layers = 2: must be at least 3"),
         ("[grid]\nlayers = 1001", "cfg.toml: [grid] layers = 1001: must be at most 1000"),
-        ("[initial]\nice_thickness = 0.0", "cfg.toml: [initial] ice_thickness = 0.0: must be at least 0.01 m"),
+        ("[initial]\nice_thickness = 0.005", "cfg.toml: [initial] ice_thickness = 0.005: must be 0 (open water) or at "
+                                              "least 0.01 m"),
+        ("[initial]\nice_thickness = -0.1", "cfg.toml: [initial] ice_thickness = -0.1: must be at least 0 m"),
         ("[initial]\nsnow_thickness = -0.1", "cfg.toml: [initial] snow_thickness = -0.1: must be at least 0 m"),
         ("[grid]\nlayers = 'forty'", "cfg.toml: [grid] layers: expected an integer, got 'forty'"),
         ("[grid]\nlayers = 40.5", "cfg.toml: [grid] layers: expected an integer, got 40.5"),

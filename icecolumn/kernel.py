@@ -1093,9 +1093,7 @@ def _melt_out(y, n, par):
         y[k] = 0.0
         y[n + k] = 0.0
     h = y[2 * n]
-    hs = y[nb + B_SNOW]
-    if hs < 0.0:
-        hs = 0.0
+    hs = y[nb + B_SNOW]  # (may be a round-off below 0: moved as it is, so mass stays exact)
     y[nb + B_E_MELTOUT] -= e
     y[nb + B_S_MELT] += m
     y[nb + B_H_BMELT] += h
@@ -1184,13 +1182,14 @@ def _open_water_rates(y, n, par, fv, g):
         fs = net_water_flux_scalar(tw, ta, sw, lw, wind, rh)
     else:
         fs = par[P_HTC] * (ta - tw)
+    collecting = y[nb + B_FRAZIL] < 0.0  # frazil not yet new ice: it takes the heat (either sign) first
     if par[P_MLD] > 0.0:
         g[nb + B_ML_W] = sf
         g[nb + B_SNOWFALL] = sf
         g[nb + B_ML_S] = _restoring(y, n, par)
         g[nb + B_S_ML_DEEP] = g[nb + B_ML_S]
         g[nb + B_E_ML_DEEP] = deep
-        if tw <= tf and fs + deep < 0.0:
+        if collecting or (tw <= tf and fs + deep < 0.0):
             g[nb + B_FRAZIL] = fs + deep
             g[nb + B_E_SURF] = fs
             g[nb + B_E_OCEAN] = deep  # passed on by the mixed layer at its freezing point
@@ -1199,9 +1198,9 @@ def _open_water_rates(y, n, par, fv, g):
             g[nb + B_E_ML_SURF] = fs
         return
     to = fv[F_TOCEAN]
-    if to == to and to > tf + FREEZING_TOLERANCE:
+    if not collecting and to == to and to > tf + FREEZING_TOLERANCE:
         return  # the ocean is warmer than its freezing point: nothing freezes
-    if fs + deep < 0.0:
+    if collecting or fs + deep < 0.0:
         g[nb + B_FRAZIL] = fs + deep
         g[nb + B_E_SURF] = fs
         g[nb + B_E_OCEAN] = deep
@@ -1218,8 +1217,15 @@ def _open_water_step(y, t, dt, n, par, ft, forc, idx, fv, g1, g2, ytmp):
     _open_water_rates(ytmp, n, par, fv, g2)
     for i in range(y.size):
         y[i] = y[i] + 0.5 * dt * (g1[i] + g2[i])
-    if par[P_MLD] > 0.0:
-        nb = 2 * n + 1
+    nb = 2 * n + 1
+    mixed = par[P_MLD] > 0.0
+    if y[nb + B_FRAZIL] > 0.0:  # the step melted more than the frazil there was: the rest warms the water
+        excess = y[nb + B_FRAZIL]
+        y[nb + B_FRAZIL] = 0.0
+        y[nb + B_E_OCEAN] -= excess
+        if mixed:
+            y[nb + B_ML_E] += excess
+    if mixed:
         tw, _s, tf = mixed_layer_state(y, n, par)
         if tw < tf:  # the step overshot the freezing point: that heat loss makes frazil instead
             excess = y[nb + B_ML_E] - par[P_CL] * y[nb + B_ML_W] * tf

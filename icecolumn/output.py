@@ -92,7 +92,9 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["surface_temperature"] = (dims_t, raw.surface_temperature,
                                 _attrs("degC", "temperature of the upper (snow or ice) surface",
                                        "sea_ice_surface_temperature",
-                                       comment="capped at the melting point 0 degC"))
+                                       comment="capped at the melting point 0 degC; over open water the water "
+                                               "temperature (the mixed layer's, the forcing's ocean_temperature, or "
+                                               "the freezing point)"))
     v["air_temperature"] = (dims_t, raw.air_temperature_mean,
                             _attrs("degC", "air temperature (forcing)", "air_temperature", cm))
     v["sea_ice_area_fraction"] = (dims_t, ice.astype(np.float64),
@@ -217,6 +219,9 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                                                f"layer, {cum}"))
         v["mixed_layer_heat_input_deep"] = (dims_t, b[..., K.B_E_ML_DEEP],
                                             _attrs("J m-2", f"heat from the deep ocean into the mixed layer, {cum}"))
+        v["mixed_layer_salt_input_deep"] = (dims_t, b[..., K.B_S_ML_DEEP],
+                                            _attrs("kg m-2", f"salt from the deep ocean restoring the mixed-layer "
+                                                             f"salinity ([ocean] salinity_restoring_time), {cum}"))
     v["depth"] = (dims_tl, depth, _attrs("m", "depth of the layer centre below the ice surface",
                                          positive="down",
                                          comment="layer top and bottom depths are in depth_bounds"))

@@ -177,6 +177,7 @@ def _run_summary(ds, path: Path) -> str:
         f"run:            {_time_text(t[0])} to {_time_text(t[-1])} ({days:.1f} days)",
         f"ice thickness:  start {h[0]:.3f} m, end {h[-1]:.3f} m, "
         f"maximum {h[imax]:.3f} m on {str(t[imax])[:10]}",
+        *_season_lines(ds),
         f"salt released:  {float(ds['salt_released'].values[-1]):.3f} kg m-2",
         f"salt flux:      mean {flux_mean:.3g} kg m-2 s-1, maximum {flux_max:.3g} kg m-2 s-1",
         f"output:         {path}",
@@ -187,6 +188,28 @@ def _run_summary(ds, path: Path) -> str:
         icecolumn.CAUTION,
     ]
     return "\n".join(lines)
+
+
+def _season_lines(ds) -> list[str]:
+    """Summary lines for snow-ice, melt-out and refreeze (only when they happened)."""
+    lines = []
+    t = ds["time"].values
+    if "snow_ice_growth" in ds and float(ds["snow_ice_growth"].values[-1]) > 0:
+        lines.append(f"snow-ice:       {float(ds['snow_ice_growth'].values[-1]):.3f} m formed by flooding")
+    if "sea_ice_area_fraction" in ds:
+        ice = np.asarray(ds["sea_ice_area_fraction"].values) > 0
+        outs = np.flatnonzero(ice[:-1] & ~ice[1:]) + 1
+        ins = np.flatnonzero(~ice[:-1] & ice[1:]) + 1
+        if outs.size:
+            lines.append("melt-out:       " + ", ".join(str(t[i])[:10] for i in outs[:5])
+                         + (" ..." if outs.size > 5 else ""))
+        if ins.size:
+            lines.append("new ice:        " + ", ".join(str(t[i])[:10] for i in ins[:5])
+                         + (" ..." if ins.size > 5 else ""))
+        open_days = float(np.sum(~ice[1:] * np.diff(t) / np.timedelta64(1, "D")))
+        if open_days > 0:
+            lines.append(f"open water:     {open_days:.1f} days")
+    return lines
 
 
 def _open_run(path: Path, require=("ice_thickness", "air_temperature")):
@@ -314,6 +337,9 @@ def run_command(
     restart_from: Annotated[Optional[Path], typer.Option("--restart-from", metavar="PREVIOUS.nc",
                                                          help="Continue from the last state of a previous "
                                                               "output (same configuration).")] = None,
+    repeat: Annotated[int, typer.Option("--repeat", min=1, metavar="N",
+                                        help="Run the forcing N times end to end (multi-year runs and "
+                                             "spin-up; the period is the file's span plus one time step).")] = 1,
 ) -> None:
     """Run the column model on a forcing file and write a NetCDF file."""
     out = output if output is not None else Path(f"{forcing.stem}.nc")
@@ -325,6 +351,10 @@ def run_command(
         raise InputError(f"{out}: folder {out.parent} does not exist")
     cfg = icecolumn.load_config(config, _overrides(assignments))
     data = icecolumn.read_forcing(forcing, _column_map(columns), max_gap=cfg.forcing.max_gap)
+    if repeat > 1:
+        from .forcing import repeat_forcing
+
+        data = repeat_forcing(data, repeat)
     previous = None
     if restart_from is not None:
         from .plotting import open_output

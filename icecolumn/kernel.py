@@ -34,6 +34,16 @@ index   budget component (all cumulative since the start of the run)
 12      snow thickness [m] (prognostic state, not a budget term)
 13      salt flushed out of the ice base by percolating melt water [kg m-2]
 14      enthalpy carried by the flushing flow (melt water in at 0 degC minus brine out) [J m-2]
+15      enthalpy of the snow turned into snow-ice by flooding [J m-2]
+16      enthalpy of the sea water that flooded it [J m-2]
+17      snow-ice formed [m]
+18      heat lost by open water at its freezing point not yet formed into ice (state) [J m-2]
+19      minus the enthalpy of the last ice given to the ocean at melt-out [J m-2]
+20-22   mixed layer enthalpy [J m-2], mass [kg m-2], salt [kg m-2] (state; 0 without one)
+23      heat into the open-water surface of the mixed layer [J m-2]
+24      heat from the deep ocean into the mixed layer [J m-2]
+25      snowfall that reached the snow or the mixed layer [kg m-2]
+26      salt from the deep ocean restoring the mixed-layer salinity [kg m-2]
 ======  ==========================================================================
 
 Face fluxes (positive downward)
@@ -64,8 +74,11 @@ JGR 114, C05006: salinity is continuous across the growing interface, no segrega
 all desalination is then done by the drainage fluxes.  With this choice the bottom layer
 evolves as a layer conducting :math:`F_c` through its lower face.  The enthalpy jump is
 bounded below by ``0.02 rho L`` so the rate stays finite if the bottom layer is almost
-liquid.  Melting is throttled smoothly to zero at a minimum thickness of 5 mm (complete
-melt-out is not modelled yet).
+liquid.  Melting is throttled smoothly to zero at 5 mm; an accepted step that leaves melting
+ice thinner than 1 cm melts it out completely (:func:`_melt_out`), and open water (h = 0) is
+stepped by :func:`_open_water_step` until it has lost the heat to form new ice
+(:func:`_form_new_ice`).  Snow-ice forms at the top while the freeboard is negative
+(:func:`_flooding_rate`).
 
 Time stepping
 -------------

@@ -312,3 +312,20 @@ def test_multiyear_ice_approaches_an_equilibrium(year_forcing):
     equilibrium = m[-1, 0] + change[-1] * ratio / (1.0 - ratio)
     print(f"change ratio {ratio:.3f}; geometric extrapolation of the equilibrium maximum {equilibrium:.3f} m")
     assert 0 < ratio < 1
+
+
+def test_cli_repeat_runs_the_forcing_end_to_end(tmp_path):
+    import xarray as xr
+
+    from icecolumn.cli import main
+
+    csv = tmp_path / "f.csv"
+    t = np.datetime64("2026-11-01T00:00") + np.arange(48) * np.timedelta64(1, "h")
+    csv.write_text("time,air_temperature\n" + "".join(f"{str(x)}Z,-15.0\n" for x in t))  # invented
+    out = tmp_path / "r.nc"
+    assert main(["run", str(csv), "--repeat", "3", "-o", str(out), "--set", "output.interval=6h"]) == 0
+    with xr.open_dataset(out) as ds:
+        span = (ds.time.values[-1] - ds.time.values[0]) / np.timedelta64(1, "h")
+    assert span == 3 * 48 - 1
+    assert main(["run", str(csv), "--repeat", "0", "-o", str(tmp_path / "bad.nc")]) == 2
+    assert not (tmp_path / "bad.nc").exists()

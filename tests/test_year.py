@@ -329,3 +329,16 @@ def test_cli_repeat_runs_the_forcing_end_to_end(tmp_path):
     assert span == 3 * 48 - 1
     assert main(["run", str(csv), "--repeat", "0", "-o", str(tmp_path / "bad.nc")]) == 2
     assert not (tmp_path / "bad.nc").exists()
+
+
+def test_year_sample_is_reproduced_by_its_script(tmp_path):
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("make_year", ROOT / "scripts" / "make_year.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    out = tmp_path / "year.csv"
+    mod.write_csv(out, mod.make_year())
+    assert out.read_bytes() == YEAR.read_bytes()
+    fdd, tdd = mod.degree_days(*(lambda c: (c["time"], c["air_temperature"]))(mod.make_year()))
+    assert 4000 <= fdd <= 5500 and 80 <= tdd <= 500  # the script's design targets

@@ -44,6 +44,7 @@ index   budget component (all cumulative since the start of the run)
 24      heat from the deep ocean into the mixed layer [J m-2]
 25      snowfall that reached the snow or the mixed layer [kg m-2]
 26      salt from the deep ocean restoring the mixed-layer salinity [kg m-2]
+27      the step size proposed for the next step (solver state, not a budget) [s]
 ======  ==========================================================================
 
 Face fluxes (positive downward)
@@ -91,8 +92,9 @@ with the basal velocity as an extra algebraic unknown: the Jacobian is block-tri
 basal velocity) and two rows; it is solved in O(N) by the block Thomas algorithm and a
 2x2 Schur complement.  The temperature derivatives come from the exact enthalpy inverse;
 the small dependence of conductivity on the state is left out (a quasi-Newton method).
-The integrator restarts at every output time, so the state written to the output file
-is its whole memory (restart is bitwise).
+The proposed step size is kept in the state vector (``B_DT``) and the first guesses of the
+enthalpy inversion are reset at every output time, so the state written to the output file
+is the integrator's whole memory (restart is bitwise).
 """
 from __future__ import annotations
 
@@ -146,7 +148,7 @@ P_MLTAU = 33  # restoring time of the mixed-layer salinity to the ocean salinity
 P_SREF = 34  # ocean salinity the mixed layer is restored to [g/kg]
 NPAR = 36
 
-NBUDGET = 27
+NBUDGET = 28
 B_E_SURF = 0
 B_E_OCEAN = 1
 B_E_WATER = 2
@@ -174,6 +176,7 @@ B_E_ML_SURF = 23  # heat into the open-water surface of the mixed layer [J m-2]
 B_E_ML_DEEP = 24  # heat from the deep ocean into the mixed layer (or into freezing open water) [J m-2]
 B_SNOWFALL = 25  # snowfall that reached the snow or the mixed layer [kg m-2]
 B_S_ML_DEEP = 26  # salt exchanged with the deep ocean by restoring the mixed-layer salinity [kg m-2]
+B_DT = 27  # not a budget: the step size the integrator proposes next [s] (0: [solver] initial_step)
 
 SURFACE_SCHEMES = {"linear": 0, "prescribed": 1, "energy_balance": 2}
 
@@ -374,6 +377,47 @@ def _hdot(tb, kb, hb_vol, dz, h, fw, par):
 
 
 @njit(cache=True)
+def _hdot_derivatives(y, n, par, fw, tb, kb, dtde_b, dtdm_b):
+    """Basal velocity (as :func:`_hdot`, from the bottom layer's temperature ``tb`` and
+    conductivity ``kb``) and its derivatives w.r.t. the bottom layer's enthalpy and salt
+    contents and the thickness at fixed contents (the conductivity's own dependence is left out,
+    as in the cell blocks)."""
+    rho = par[P_RHO]
+    h = y[2 * n]
+    ih = 1.0 / h
+    idz = n * ih
+    eb = y[n - 1]
+    tf = liquidus_temperature_scalar(par[P_SW])
+    hw = rho * par[P_CL] * tf
+    g = 2.0 * kb * idz
+    fc = g * (tf - tb)
+    hb = eb * idz
+    den = hw - hb
+    dmin = DENOM_MIN * rho * par[P_L]
+    clamped = den < dmin
+    if clamped:
+        den = dmin
+    r0 = (fc - fw) / den
+    dtdh_b = -(dtde_b * eb + dtdm_b * y[2 * n - 1]) * ih
+    dfc_de = -g * dtde_b
+    dfc_dm = -g * dtdm_b
+    dfc_dh = -fc * ih - g * dtdh_b
+    dden_de = 0.0 if clamped else -idz
+    dden_dh = 0.0 if clamped else hb * ih
+    dr_de = (dfc_de - r0 * dden_de) / den
+    dr_dm = dfc_dm / den
+    dr_dh = (dfc_dh - r0 * dden_dh) / den
+    if r0 < 0.0:
+        x = (h - H_MIN) / H_MIN
+        if x <= 0.0:
+            return 0.0, 0.0, 0.0, 0.0
+        if x >= 1.0:
+            return r0, dr_de, dr_dm, dr_dh
+        return r0 * x, dr_de * x, dr_dm * x, dr_dh * x + r0 / H_MIN
+    return r0, dr_de, dr_dm, dr_dh
+
+
+@njit(cache=True)
 def _hdot_of_state(y, n, par, fw):
     """Basal velocity evaluated from the state vector (bottom layer only)."""
     rho = par[P_RHO]
@@ -507,15 +551,10 @@ def _surface_melt_rate(y, n, par, melt_energy):
 
 
 @njit(cache=True)
-def _face_fluxes(y, j, n, r, a, kc, temp, dz):
-    """Interior face j: harmonic-mean conductivity, downward conductive flux and the upwind
-    advective enthalpy and salt fluxes of the moving grid (face velocity (1-j/n) a + (j/n) r)."""
-    kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
-    fc = kf * (temp[j - 1] - temp[j]) / dz
-    w = a * (n - j) / n + r * j / n
-    if w > 0.0:
-        return kf, fc, -w * y[j] / dz, -w * y[n + j] / dz
-    return kf, fc, -w * y[j - 1] / dz, -w * y[n + j - 1] / dz
+def _face_velocity(a, r, j, n):
+    """Downward velocity of interface j relative to the ice [m s-1]: (1 - j/n) a + (j/n) r.
+    Every user (fluxes and Jacobian) takes the upwind side from this one expression."""
+    return a + (r - a) * (j * (1.0 / n))
 
 
 @njit(cache=True)
@@ -571,7 +610,7 @@ def _snow_ice_content(par):
 
 
 @njit(cache=True)
-def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra, a_in, af):
+def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wflux, qsink, ra, a_in, af, sc):
     """Right-hand side for cells (f[0:2n]), thickness (f[2n]) and budgets.
 
     ``r`` is the basal velocity used by the advective fluxes; ``a_in`` >= 0 is the surface
@@ -581,6 +620,7 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     The top of the ice moves down at ``a - af``.  If ``want_cells`` the intensive arrays are
     (re)computed first.  ``fw`` is the heat flux into the ice base; with a mixed layer the
     forcing's ocean heat flux ``fv[F_QOCEAN]`` enters the mixed layer from below instead.
+    ``sc`` is scratch space (rows 1 and 2 hold the downward face fluxes of enthalpy and salt).
     Returns the surface temperature, the derivative of the surface flux w.r.t. the top
     temperature and the surface melt rate.
     """
@@ -589,6 +629,7 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     rho = par[P_RHO]
     h = y[2 * n]
     dz = h / n
+    idz = n / h
     tf = liquidus_temperature_scalar(par[P_SW])
     hw = rho * par[P_CL] * tf
     mw = rho * par[P_SW] / 1000.0
@@ -615,13 +656,34 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         f[nb + B_E_FLOOD_WATER] = af * hwater
         f[nb + B_S_ENTRAIN] += af * msi
         f[nb + B_H_SNOWICE] = af
-    # interior faces; face j moves down at (1 - j/n) anet + (j/n) r relative to the ice
+    # interior faces; face j moves down at (1 - j/n) anet + (j/n) r relative to the ice.
+    # Downward face fluxes first (fe, fm), then each layer takes the difference of its two faces.
+    fe = sc[1]
+    fm = sc[2]
+    fe[0] = 0.0
+    fm[0] = 0.0
+    fe[n] = 0.0
+    fm[n] = 0.0
     for j in range(1, n):
-        kf, fc, ae, am = _face_fluxes(y, j, n, r, anet, kc, temp, dz)
-        f[j - 1] -= fc + ae
-        f[j] += fc + ae
-        f[n + j - 1] -= am
-        f[n + j] += am
+        k0 = kc[j - 1]
+        k1 = kc[j]
+        w = _face_velocity(anet, r, j, n) * idz
+        up = j if w > 0.0 else j - 1
+        fe[j] = 2.0 * k0 * k1 / (k0 + k1) * (temp[j - 1] - temp[j]) * idz - w * y[up]
+        fm[j] = -w * y[n + up]
+    drain = int(par[P_DRAIN]) != 0
+    if drain:
+        # gravity drainage: upward return flow through the interior faces carries the brine of
+        # the layer below (its enthalpy at the layer's temperature)
+        _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra)
+        rcl = rho * par[P_CL]
+        cw = rho / 1000.0
+        for j in range(1, n):
+            fm[j] -= wflux[j] * cw * sbr[j]
+            fe[j] -= wflux[j] * rcl * temp[j]
+    for k in range(n):
+        f[k] += fe[k] - fe[k + 1]
+        f[n + k] += fm[k] - fm[k + 1]
     # base (face n)
     if r > 0.0:
         sm = r * mw
@@ -650,17 +712,9 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         f[nb + B_S_ENTRAIN] += sm
     else:
         f[nb + B_S_MELT] = -sm
-    if int(par[P_DRAIN]) != 0:
-        _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra)
+    if drain:
         rcl = rho * par[P_CL]
         cw = rho / 1000.0
-        for j in range(1, n):
-            us = wflux[j] * cw * sbr[j]
-            ue = wflux[j] * rcl * temp[j]
-            f[n + j - 1] += us
-            f[n + j] -= us
-            f[j - 1] += ue
-            f[j] -= ue
         win = wflux[n]
         f[2 * n - 1] += win * mw
         f[n - 1] += win * rcl * tf
@@ -694,34 +748,34 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
 
 
 @njit(cache=True)
-def _dr_column(y, r, a, n, par, col):
+def _dr_column(y, r, a, n, par, col, sc):
     """d f_cells / d r (the rhs is piecewise linear in r); ``a`` is the net downward velocity of
-    the top (surface melt minus snow-ice formation)."""
+    the top (surface melt minus snow-ice formation); ``sc`` rows 3 and 4 are scratch."""
     rho = par[P_RHO]
     h = y[2 * n]
-    dz = h / n
+    idz = n / h
     tf = liquidus_temperature_scalar(par[P_SW])
     hw = rho * par[P_CL] * tf
     mw = rho * par[P_SW] / 1000.0
-    for i in range(2 * n):
-        col[i] = 0.0
+    ge = sc[3]
+    gm = sc[4]
+    ge[0] = 0.0
+    gm[0] = 0.0
+    ge[n] = 0.0
+    gm[n] = 0.0
     for j in range(1, n):
-        c = j / n
-        if a * (n - j) / n + r * j / n > 0.0:
-            ae = -c * y[j] / dz
-            am = -c * y[n + j] / dz
-        else:
-            ae = -c * y[j - 1] / dz
-            am = -c * y[n + j - 1] / dz
-        col[j - 1] -= ae
-        col[j] += ae
-        col[n + j - 1] -= am
-        col[n + j] += am
+        c = (j * (1.0 / n)) * idz  # d w / d r, times 1/dz
+        up = j if _face_velocity(a, r, j, n) * idz > 0.0 else j - 1
+        ge[j] = -c * y[up]
+        gm[j] = -c * y[n + up]
+    for k in range(n):
+        col[k] = ge[k] - ge[k + 1]
+        col[n + k] = gm[k] - gm[k + 1]
     col[n - 1] += hw
     if r > 0.0:
         col[2 * n - 1] += mw
     else:
-        col[2 * n - 1] += y[2 * n - 1] / dz
+        col[2 * n - 1] += y[2 * n - 1] * idz
 
 
 @njit(cache=True)
@@ -752,9 +806,10 @@ def _blocks(y, r, a, amelt, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par,
     # surface flux into layer 0: d f_e0 / d(e0, m0) += df0 * dT0/d(.)
     di[0, 0] += df0 * dtde[0]
     di[0, 1] += df0 * dtdm[0]
+    idz = n / h
     for j in range(1, n):
         kf = 2.0 * kc[j - 1] * kc[j] / (kc[j - 1] + kc[j])
-        g = kf / dz
+        g = kf * idz
         # F_j = g (T_{j-1} - T_j); f_e[j-1] -= F_j ; f_e[j] += F_j
         # derivatives w.r.t. layer j-1 (e, m)
         a0 = g * dtde[j - 1]
@@ -770,15 +825,15 @@ def _blocks(y, r, a, amelt, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par,
         di[j, 0] += b0
         di[j, 1] += b1
         # advection: flux into j-1 from upwind layer
-        w = a * (n - j) / n + r * j / n
+        w = _face_velocity(a, r, j, n) * idz
         if w > 0.0:
-            c = -w / dz  # d(ae)/d(e_j)
+            c = -w  # d(ae)/d(e_j)
             up[j - 1, 0] -= c
             up[j - 1, 3] -= c
             di[j, 0] += c
             di[j, 3] += c
         else:
-            c = -w / dz  # d(ae)/d(e_{j-1})
+            c = -w  # d(ae)/d(e_{j-1})
             di[j - 1, 0] -= c
             di[j - 1, 3] -= c
             lo[j, 0] += c
@@ -848,11 +903,11 @@ def _block_solve(n, lo, di, up, rhs, nrhs, work_m, work_g):
                 p1 = rhs[q, n + k - 1]
                 rhs[q, k] -= l00 * p0 + l01 * p1
                 rhs[q, n + k] -= l10 * p0 + l11 * p1
-        det = m00 * m11 - m01 * m10
-        i00 = m11 / det
-        i01 = -m01 / det
-        i10 = -m10 / det
-        i11 = m00 / det
+        idet = 1.0 / (m00 * m11 - m01 * m10)
+        i00 = m11 * idet
+        i01 = -m01 * idet
+        i10 = -m10 * idet
+        i11 = m00 * idet
         work_m[k, 0] = i00
         work_m[k, 1] = i01
         work_m[k, 2] = i10
@@ -905,34 +960,48 @@ def _err_norm(vec, y, n, par, ny):
 
 
 @njit(cache=True)
-def _dh_column(y, r, a, amelt, n, par, f, temp, dtde, dtdm, kc, df0, dtdh, col):
+def _dh_column(y, r, a, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc, col):
     """d f_cells / d h at fixed layer contents, basal velocity ``r``, net top velocity ``a`` and
-    surface melt rate ``amelt`` (the snow-ice source does not depend on h)."""
+    surface melt rate ``amelt`` (the snow-ice source does not depend on h).  ``sc`` is scratch
+    (row 0: dT/dh of each layer; rows 3 and 4: the face terms)."""
     h = y[2 * n]
-    dz = h / n
+    ih = 1.0 / h
+    idz = n * ih
+    dtdh = sc[0]
     for k in range(n):
-        dtdh[k] = -(dtde[k] * y[k] + dtdm[k] * y[n + k]) / h  # intensive state thins with h
-    for i in range(2 * n):
-        col[i] = 0.0
-    used = amelt * (-y[0] / dz)
-    f0 = f[2 * n + 1 + B_E_SURF] - used
-    col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used / h
-    col[n] += amelt * y[n] / dz / h
+        dtdh[k] = -(dtde[k] * y[k] + dtdm[k] * y[n + k]) * ih  # intensive state thins with h
+    ge = sc[3]
+    gm = sc[4]
+    ge[0] = 0.0
+    gm[0] = 0.0
+    ge[n] = 0.0
+    gm[n] = 0.0
     for j in range(1, n):
-        kf, fc, ae, am = _face_fluxes(y, j, n, r, a, kc, temp, dz)
-        dfc = -fc / h + kf / dz * (dtdh[j - 1] - dtdh[j])
-        col[j - 1] -= dfc - ae / h
-        col[j] += dfc - ae / h
-        col[n + j - 1] += am / h
-        col[n + j] -= am / h
+        k0 = kc[j - 1]
+        k1 = kc[j]
+        kf = 2.0 * k0 * k1 / (k0 + k1)
+        fc = kf * (temp[j - 1] - temp[j]) * idz
+        w = _face_velocity(a, r, j, n) * idz
+        up = j if w > 0.0 else j - 1
+        # d/dh of the downward face fluxes (conduction through h/n, advection -w q_up with
+        # w and q_up both scaling with 1/h)
+        ge[j] = -fc * ih + kf * idz * (dtdh[j - 1] - dtdh[j]) + w * y[up] * ih
+        gm[j] = w * y[n + up] * ih
+    for k in range(n):
+        col[k] = ge[k] - ge[k + 1]
+        col[n + k] = gm[k] - gm[k + 1]
+    used = amelt * (-y[0] * idz)
+    f0 = f[2 * n + 1 + B_E_SURF] - used
+    col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used * ih
+    col[n] += amelt * y[n] * idz * ih
     if r <= 0.0:
-        col[2 * n - 1] -= r * y[2 * n - 1] / dz / h
+        col[2 * n - 1] -= r * y[2 * n - 1] * idz * ih
 
 
 @njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc,
                   lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in, af):
-    """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r).
+    """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r, iterations).
 
     ``sc`` (9, n + 1) is scratch space for the perturbed evaluation of the thickness column,
     so the intensive state at ``y`` computed at the start of the iteration stays valid.
@@ -943,38 +1012,24 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
     for it in range(maxit):
         h = y[2 * n]
         if not (h > 0.0):
-            return False, r
+            return False, r, it
         _ts, df0, amelt = _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra,
-                               a_in, af)
+                               a_in, af, sc)
         atop = amelt - af
         # residuals (negated, as Newton rhs)
         for i in range(ncell):
             rhs[0, i] = -(y[i] - base[i] - a_dt * f[i])
         res_h = -(y[2 * n] - base[2 * n] - a_dt * (r - atop))
-        hd = _hdot_of_state(y, n, par, fw)
+        hd, dhd_de, dhd_dm, dhd_dh = _hdot_derivatives(y, n, par, fw, temp[n - 1], kc[n - 1], dtde[n - 1],
+                                                       dtdm[n - 1])
         res_r = -(r - hd)
         # border column for h: analytic d f / d h at fixed contents and r (conduction,
         # advection and melt terms through the layer thickness h/n; the small dependence of
         # conductivity and drainage on h is left out, as for the cell blocks)
-        dh = 1e-7 * h
-        for i in range(2 * n + 1 + NBUDGET):
-            ytmp[i] = y[i]
-        _dh_column(y, r, atop, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc[0, :n], ftmp)
+        _dh_column(y, r, atop, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc, ftmp)
         for i in range(ncell):
             rhs[1, i] = -a_dt * ftmp[i]  # B column (h)
-        # border row for r: d hdot / d (e_b, m_b, h)
-        de = 1e-7 * (abs(y[n - 1]) + 1.0)
-        ytmp[2 * n] = h
-        ytmp[n - 1] = y[n - 1] + de
-        dhd_de = (_hdot_of_state(ytmp, n, par, fw) - hd) / de
-        ytmp[n - 1] = y[n - 1]
-        dm = 1e-7 * (abs(y[2 * n - 1]) + 1e-6)
-        ytmp[2 * n - 1] = y[2 * n - 1] + dm
-        dhd_dm = (_hdot_of_state(ytmp, n, par, fw) - hd) / dm
-        ytmp[2 * n - 1] = y[2 * n - 1]
-        ytmp[2 * n] = h + dh
-        dhd_dh = (_hdot_of_state(ytmp, n, par, fw) - hd) / dh
-        _dr_column(y, r, atop, n, par, col_r)
+        _dr_column(y, r, atop, n, par, col_r, sc)
         for i in range(ncell):
             rhs[2, i] = -a_dt * col_r[i]  # B column (r)
         _blocks(y, r, atop, amelt, n, df0, dtde, dtdm, kc, temp, a_dt, lo, di, up, par, phi, sbr, wflux)
@@ -1006,13 +1061,13 @@ def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, 
         y[2 * n] += ddh
         r += ddr
         if not (nrm == nrm):
-            return False, r
+            return False, r, it + 1
         if nrm < 0.02:
-            return True, r
+            return True, r, it + 1
         if it >= 2 and nrm > 0.9 * prev:
-            return False, r
+            return False, r, it + 1
         prev = nrm
-    return False, r
+    return False, r, maxit
 
 
 @njit(cache=True)
@@ -1232,19 +1287,22 @@ def _open_water_step(y, t, dt, n, par, ft, forc, idx, fv, g1, g2, ytmp):
         y[i] = y[i] + 0.5 * dt * (g1[i] + g2[i])
     nb = 2 * n + 1
     mixed = par[P_MLD] > 0.0
-    if y[nb + B_FRAZIL] > 0.0:  # the step melted more than the frazil there was: the rest warms the water
+    if mixed:
+        tw, _s, tf = mixed_layer_state(y, n, par)
+        if tw < tf or y[nb + B_FRAZIL] < 0.0:
+            # below its freezing point (the step overshot), or holding frazil, the layer stays at
+            # its freezing point (which snowfall and restoring move a little): the difference is
+            # frazil formed or melted
+            excess = y[nb + B_ML_E] - par[P_CL] * y[nb + B_ML_W] * tf
+            y[nb + B_ML_E] -= excess
+            y[nb + B_FRAZIL] += excess
+            y[nb + B_E_OCEAN] += excess
+    if y[nb + B_FRAZIL] > 0.0:  # more than the frazil there was melted: the rest warms the water
         excess = y[nb + B_FRAZIL]
         y[nb + B_FRAZIL] = 0.0
         y[nb + B_E_OCEAN] -= excess
         if mixed:
             y[nb + B_ML_E] += excess
-    if mixed:
-        tw, _s, tf = mixed_layer_state(y, n, par)
-        if tw < tf:  # the step overshot the freezing point: that heat loss makes frazil instead
-            excess = y[nb + B_ML_E] - par[P_CL] * y[nb + B_ML_W] * tf
-            y[nb + B_ML_E] -= excess
-            y[nb + B_FRAZIL] += excess
-            y[nb + B_E_OCEAN] += excess
     return idx
 
 
@@ -1253,7 +1311,8 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
     """Advance one member's state from t0 to t1 in place. Returns a status code.
 
     0 success; 1 step size underflow (solver failure). nsteps_out[0] counts accepted
-    steps, nsteps_out[1] rejected steps, nsteps_out[2] Newton iterations (approximate).
+    steps, nsteps_out[1] rejected steps, nsteps_out[2] Newton iterations (all stages, rejected
+    steps included).
     Open water (h = 0) is stepped by :func:`_open_water_step` until new ice forms; ice that
     melts below H_OUT melts out (:func:`_melt_out`).
     """
@@ -1294,9 +1353,10 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
     fv2 = np.empty(NFORCING)
     fv3 = np.empty(NFORCING)
     t = t0
-    dt = par[P_INITDT]
+    dt = y[nb + B_DT] if y[nb + B_DT] > 0.0 else par[P_INITDT]
     maxdt = par[P_MAXDT]
     idx = 0
+    proposed = dt
     while t < t1:
         if mixed:
             _tw, s_ml, _tf = mixed_layer_state(y, n, par)
@@ -1314,10 +1374,12 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
                 _form_new_ice(y, n, par)
                 temp[:] = np.nan
                 dt = par[P_INITDT]
+                proposed = dt
             continue
         if dt > maxdt:
             dt = maxdt
         last = False
+        proposed = dt
         if t + dt >= t1 - 1e-9 * (1.0 + abs(t1)):
             dt = t1 - t
             last = True
@@ -1341,34 +1403,35 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
         # stage 1 (explicit)
         r1 = _hdot_of_state(y, n, par, fw1)
         _ts1, _df1, a_in = _rhs(y, r1, n, par, fv1, fw1, f1, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra,
-                                -1.0, af)  # surface melt rate of the step's start, kept for its stages
+                                -1.0, af, sc)  # surface melt rate of the step's start, kept for its stages
         # stage 2
         for i in range(ny):
             base[i] = y[i] + dt * _D * f1[i]
             y2[i] = y[i] + dt * _GAMMA * f1[i]
         if not (y2[2 * n] > 0.5 * y[2 * n]):
             y2[2 * n] = y[2 * n]
-        ok, r2 = _newton_stage(y2, base, _D * dt, n, par, fv2, fw2, f2, temp, phi, sbr, dtde,
+        ok, r2, nit = _newton_stage(y2, base, _D * dt, n, par, fv2, fw2, f2, temp, phi, sbr, dtde,
                                dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
                                wflux, qsink, ra, sc, a_in, af)
-        nsteps_out[2] += 1
+        nsteps_out[2] += nit
         if ok:
             r2 = _hdot_of_state(y2, n, par, fw2)
-            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in, af)
+            _rhs(y2, r2, n, par, fv2, fw2, f2, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in, af, sc)
             for i in range(ny):
                 base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
                 y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
             if not (y3[2 * n] > 0.5 * y[2 * n]):
                 y3[2 * n] = y2[2 * n]
-            ok, r3 = _newton_stage(y3, base, _D * dt, n, par, fv3, fw3, f3, temp, phi, sbr,
-                                   dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
-                                   col_r, 10, wflux, qsink, ra, sc, a_in, af)
+            ok, r3, nit = _newton_stage(y3, base, _D * dt, n, par, fv3, fw3, f3, temp, phi, sbr,
+                                        dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
+                                        col_r, 10, wflux, qsink, ra, sc, a_in, af)
+            nsteps_out[2] += nit
         if not ok:
             dt *= 0.25
             nsteps_out[1] += 1
             continue
         r3 = _hdot_of_state(y3, n, par, fw3)
-        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in, af)
+        _rhs(y3, r3, n, par, fv3, fw3, f3, temp, phi, sbr, dtde, dtdm, kc, True, wflux, qsink, ra, a_in, af, sc)
         for i in range(ny):
             err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
         en = _err_norm(err, y, n, par, 2 * n + 1)
@@ -1390,6 +1453,7 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
             _melt_out(y, n, par)
             temp[:] = np.nan
             dt = par[P_INITDT]
+            proposed = dt
             continue
         if en < 1e-10:
             fac = 5.0
@@ -1400,6 +1464,11 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
             if fac < 0.2:
                 fac = 0.2
         dt *= fac
+        if last and dt < proposed:
+            dt = proposed  # a step shortened to end on t1 does not shrink the next interval's first step
+    # the step size is part of the state, so a run continued from its output (restart) goes on
+    # exactly as the run done in one go
+    y[nb + B_DT] = dt if y[2 * n] > 0.0 else 0.0
     return 0
 
 

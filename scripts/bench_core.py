@@ -34,6 +34,7 @@ def bench(scheme: str, repeat: int) -> dict:
     layers = cfg.grid.layers
     return {"scheme": scheme, "first_call_s": first, "wall_s": best, "steps": steps,
             "rejected": ds.attrs["solver_steps_rejected"], "layers": layers,
+            "newton_per_step": ds.attrs["solver_newton_iterations"] / steps,
             "layer_steps_per_s": steps * layers / best, "end_thickness_m": float(ds.ice_thickness[-1])}
 
 
@@ -44,10 +45,10 @@ def main() -> None:
     rows = [bench("none", args.repeat), bench(ic.default_config().drainage.scheme, args.repeat)]
     print(f"sample winter: {SAMPLE.name}, {rows[0]['layers']} layers, best of {args.repeat}")
     print(f"{'drainage':24s} {'first call s':>12s} {'wall s':>8s} {'steps':>7s} {'rejected':>8s} "
-          f"{'layer-steps/s':>14s} {'h_end m':>8s}")
+          f"{'layer-steps/s':>14s} {'h_end m':>8s} {'Newton/step':>11s}")
     for r in rows:
         print(f"{r['scheme']:24s} {r['first_call_s']:12.2f} {r['wall_s']:8.3f} {r['steps']:7d} {r['rejected']:8d} "
-              f"{r['layer_steps_per_s']:14.3e} {r['end_thickness_m']:8.3f}")
+              f"{r['layer_steps_per_s']:14.3e} {r['end_thickness_m']:8.3f} {r['newton_per_step']:11.2f}")
     print(f"drainage cost: {rows[1]['wall_s'] / rows[0]['wall_s']:.2f} x the run time without drainage")
 
 

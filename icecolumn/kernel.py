@@ -209,6 +209,7 @@ _E2 = _W - (3.0 * _W + 1.0) / 3.0
 _E3 = _D - _D / 3.0
 
 H_MIN = 0.005  # m, melting is throttled to zero at this thickness
+GROWTH_MAX = 2.0  # largest factor by which an accepted step may grow the next one
 H_OUT = 0.01  # m, melting ice thinner than this melts out completely (open water)
 #: Heat transfer velocity between the mixed layer and the ice base, c_h u_* with the Stanton
 #: number c_h = 0.006 (McPhee 1992, JGR 97, 5365; from memory) and a friction velocity of
@@ -1456,11 +1457,11 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
             proposed = dt
             continue
         if en < 1e-10:
-            fac = 5.0
+            fac = GROWTH_MAX
         else:
             fac = 0.9 * en ** (-1.0 / 3.0)
-            if fac > 5.0:
-                fac = 5.0
+            if fac > GROWTH_MAX:
+                fac = GROWTH_MAX
             if fac < 0.2:
                 fac = 0.2
         dt *= fac

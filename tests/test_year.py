@@ -341,3 +341,23 @@ def test_year_sample_is_reproduced_by_its_script(tmp_path):
     assert out.read_bytes() == YEAR.read_bytes()
     fdd, tdd = mod.degree_days(*(lambda c: (c["time"], c["air_temperature"]))(mod.make_year()))
     assert 4000 <= fdd <= 5500 and 80 <= tdd <= 500  # the script's design targets
+
+
+def test_mixed_layer_under_ice_settles_at_the_exchange_balance():
+    # Worked example of the ice-ocean exchange F = rho_w c_l (c_h u_*) (T_ml - T_f), with
+    # c_h = 0.006 (McPhee 1992, JGR 97, 5365; from memory) and u_* = 0.01 m s-1 (common
+    # practice, no source): under ice, a deep heat flux of 10 W m-2 keeps the mixed layer
+    # 10 / (1028 * 3990 * 6e-5) = 0.0406 K above its freezing point once it is steady
+    # (time scale depth / (c_h u_*) = 20 m / 6e-5 m s-1, about 4 days).
+    cfg = (ic.default_config().replace("initial", ice_thickness=1.0, bulk_salinity=5.0)
+           .replace("ocean", mixed_layer_depth=20.0, heat_flux=10.0, salinity_restoring_time=0.0)
+           .replace("surface", scheme="linear").replace("output", interval="1D"))
+    t = np.datetime64("2027-01-01", "ns") + np.arange(40 * 24 + 1) * np.timedelta64(1, "h")
+    ds = ic.run(forcing_from_arrays(t, np.full(t.size, -20.0)), cfg)  # invented test forcing
+    excess = ds.mixed_layer_temperature.values - ds.mixed_layer_freezing_temperature.values
+    expected = 10.0 / (SEAWATER_DENSITY * cfg.properties.brine_specific_heat * K.ML_EXCHANGE_VELOCITY)
+    assert expected == pytest.approx(0.0406, abs=1e-4)
+    assert excess[-1] == pytest.approx(expected, rel=0.02)
+    # and the ice base receives it: the interval-mean ocean heat flux tends to the deep flux
+    assert float(ds.ocean_heat_flux.values[-1]) == pytest.approx(10.0, rel=0.02)
+    check_budgets(ds)

@@ -289,6 +289,27 @@ def _snow_depth(fv, y, n):
 
 
 @njit(cache=True)
+def _atmosphere(fv, par):
+    """Shortwave and longwave down [W m-2], wind [m s-1] and relative humidity [%] of the
+    forcing, with the defaults of the energy balance where the forcing has none: no shortwave,
+    longwave from air temperature and cloud fraction (0.5 if absent), wind P_WIND, 90 %."""
+    sw = fv[F_SW]
+    if sw != sw:
+        sw = 0.0
+    lw = fv[F_LW]
+    if lw != lw:
+        cloud = fv[F_CLOUD]
+        lw = longwave_down_scalar(fv[F_AIR], cloud if cloud == cloud else 0.5)
+    wind = fv[F_WIND]
+    if wind != wind:
+        wind = par[P_WIND]
+    rh = fv[F_RH]
+    if rh != rh:
+        rh = 90.0
+    return sw, lw, wind, rh
+
+
+@njit(cache=True)
 def _surface(t0, k0, dz, fv, par, hs):
     """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature
     and the melt energy flux the capped surface could not take [W m-2].
@@ -315,19 +336,7 @@ def _surface(t0, k0, dz, fv, par, hs):
             return f, -1.0 / rc, tm, f_air - f
         return f, -1.0 / rt, ts, 0.0
     # energy balance: solve F_net(T_s) = (T_s - T0) / rc for T_s
-    sw = fv[F_SW]
-    if sw != sw:
-        sw = 0.0
-    cloud = fv[F_CLOUD]
-    lw = fv[F_LW]
-    if lw != lw:
-        lw = longwave_down_scalar(ta, cloud if cloud == cloud else 0.5)
-    wind = fv[F_WIND]
-    if wind != wind:
-        wind = par[P_WIND]
-    rh = fv[F_RH]
-    if rh != rh:
-        rh = 90.0
+    sw, lw, wind, rh = _atmosphere(fv, par)
     i0 = 0.0 if hs >= 0.01 else PENETRATION_ICE
     ts = t0 if t0 < tm else tm
     alb = albedo_scalar(hs, ts, tm)
@@ -552,6 +561,25 @@ def _surface_melt_rate(y, n, par, melt_energy):
 
 
 @njit(cache=True)
+def _divergence(fe, fm, n, out, accumulate):
+    """Layer tendencies from downward fluxes through the interior faces 1..n-1 (``fe`` enthalpy,
+    ``fm`` salt; faces 0 and n are set to 0 here, the boundaries are added by the caller):
+    out[k] (+)= fe[k] - fe[k+1], out[n+k] (+)= fm[k] - fm[k+1]."""
+    fe[0] = 0.0
+    fm[0] = 0.0
+    fe[n] = 0.0
+    fm[n] = 0.0
+    if accumulate:
+        for k in range(n):
+            out[k] += fe[k] - fe[k + 1]
+            out[n + k] += fm[k] - fm[k + 1]
+    else:
+        for k in range(n):
+            out[k] = fe[k] - fe[k + 1]
+            out[n + k] = fm[k] - fm[k + 1]
+
+
+@njit(cache=True)
 def _face_velocity(a, r, j, n):
     """Downward velocity of interface j relative to the ice [m s-1]: (1 - j/n) a + (j/n) r.
     Every user (fluxes and Jacobian) takes the upwind side from this one expression."""
@@ -661,10 +689,6 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     # Downward face fluxes first (fe, fm), then each layer takes the difference of its two faces.
     fe = sc[1]
     fm = sc[2]
-    fe[0] = 0.0
-    fm[0] = 0.0
-    fe[n] = 0.0
-    fm[n] = 0.0
     for j in range(1, n):
         k0 = kc[j - 1]
         k1 = kc[j]
@@ -682,9 +706,7 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         for j in range(1, n):
             fm[j] -= wflux[j] * cw * sbr[j]
             fe[j] -= wflux[j] * rcl * temp[j]
-    for k in range(n):
-        f[k] += fe[k] - fe[k + 1]
-        f[n + k] += fm[k] - fm[k + 1]
+    _divergence(fe, fm, n, f, True)
     # base (face n)
     if r > 0.0:
         sm = r * mw
@@ -760,18 +782,12 @@ def _dr_column(y, r, a, n, par, col, sc):
     mw = rho * par[P_SW] / 1000.0
     ge = sc[3]
     gm = sc[4]
-    ge[0] = 0.0
-    gm[0] = 0.0
-    ge[n] = 0.0
-    gm[n] = 0.0
     for j in range(1, n):
         c = (j * (1.0 / n)) * idz  # d w / d r, times 1/dz
         up = j if _face_velocity(a, r, j, n) * idz > 0.0 else j - 1
         ge[j] = -c * y[up]
         gm[j] = -c * y[n + up]
-    for k in range(n):
-        col[k] = ge[k] - ge[k + 1]
-        col[n + k] = gm[k] - gm[k + 1]
+    _divergence(ge, gm, n, col, False)
     col[n - 1] += hw
     if r > 0.0:
         col[2 * n - 1] += mw
@@ -973,10 +989,6 @@ def _dh_column(y, r, a, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc, col):
         dtdh[k] = -(dtde[k] * y[k] + dtdm[k] * y[n + k]) * ih  # intensive state thins with h
     ge = sc[3]
     gm = sc[4]
-    ge[0] = 0.0
-    gm[0] = 0.0
-    ge[n] = 0.0
-    gm[n] = 0.0
     for j in range(1, n):
         k0 = kc[j - 1]
         k1 = kc[j]
@@ -988,9 +1000,7 @@ def _dh_column(y, r, a, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc, col):
         # w and q_up both scaling with 1/h)
         ge[j] = -fc * ih + kf * idz * (dtdh[j - 1] - dtdh[j]) + w * y[up] * ih
         gm[j] = w * y[n + up] * ih
-    for k in range(n):
-        col[k] = ge[k] - ge[k + 1]
-        col[n + k] = gm[k] - gm[k + 1]
+    _divergence(ge, gm, n, col, False)
     used = amelt * (-y[0] * idz)
     f0 = f[2 * n + 1 + B_E_SURF] - used
     col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used * ih
@@ -1235,19 +1245,7 @@ def _open_water_rates(y, n, par, fv, g):
         tf = liquidus_temperature_scalar(par[P_SW])
         tw = tf
     if int(par[P_SURF]) == 2:
-        sw = fv[F_SW]
-        if sw != sw:
-            sw = 0.0
-        lw = fv[F_LW]
-        if lw != lw:
-            cloud = fv[F_CLOUD]
-            lw = longwave_down_scalar(ta, cloud if cloud == cloud else 0.5)
-        wind = fv[F_WIND]
-        if wind != wind:
-            wind = par[P_WIND]
-        rh = fv[F_RH]
-        if rh != rh:
-            rh = 90.0
+        sw, lw, wind, rh = _atmosphere(fv, par)
         fs = net_water_flux_scalar(tw, ta, sw, lw, wind, rh)
     else:
         fs = par[P_HTC] * (ta - tw)

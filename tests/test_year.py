@@ -293,7 +293,10 @@ def test_ten_years_with_mixed_layer_settle_into_a_cycle(year_forcing):
 @pytest.mark.slow
 def test_multiyear_ice_approaches_an_equilibrium(year_forcing):
     cold = year_forcing.copy()
-    cold["air_temperature"] = cold["air_temperature"] - 3.0  # a colder variant: the ice survives summer
+    # a colder variant (2 K colder all year): the ice survives the summer.  Measured over 30
+    # years (not in the test): the annual maximum settles at 2.42 m (minimum 1.75 m) by about
+    # year 25; with 3 K colder it is still growing by 2-4 cm a year after 40 years (5 m of ice)
+    cold["air_temperature"] = cold["air_temperature"] - 2.0
     cfg = ic.default_config().replace("initial", ice_thickness=0.0).replace("output", interval="1D")
     years = 10
     ds = ic.run(repeat_forcing(cold, years), cfg)
@@ -311,6 +314,9 @@ def test_multiyear_ice_approaches_an_equilibrium(year_forcing):
     equilibrium = m[-1, 0] + change[-1] * ratio / (1.0 - ratio)
     print(f"change ratio {ratio:.3f}; geometric extrapolation of the equilibrium maximum {equilibrium:.3f} m")
     assert 0 < ratio < 1
+    # the extrapolation from 10 years agrees with the 30-year run quoted above (our own
+    # measurement, a regression check): 2.42 m within 5 %
+    assert equilibrium == pytest.approx(2.42, rel=0.05)
 
 
 def test_cli_repeat_runs_the_forcing_end_to_end(tmp_path):

@@ -114,3 +114,22 @@ def test_compliance_checker_cf18(written, tmp_path):
     assert len(report["high_priorities"]) + len(report["medium_priorities"]) > 0
     assert report["high_count"] == 0 and report["medium_count"] == 0
     assert not bad, "\n".join(bad)
+
+
+def test_compliance_checker_with_open_water_and_mixed_layer(tmp_path):
+    # the same outside checker on a melt-out run (missing profiles in open water) with the
+    # mixed-layer variables; invented sample forcing forcing_samples/station_year.csv
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    forcing = ic.read_forcing(root / "forcing_samples" / "station_year.csv")
+    cfg = (ic.load_config(root / "forcing_samples" / "station_year.toml")
+           .replace("run", start="2027-07-20T00:00Z", end="2027-09-01T00:00Z")
+           .replace("initial", ice_thickness=0.8, bulk_salinity=4.0))
+    ds = ic.run(forcing, cfg)
+    assert (ds.sea_ice_area_fraction.values == 0).any() and "mixed_layer_salinity" in ds
+    path = tmp_path / "melt.nc"
+    ic.write_netcdf(ds, path)
+    report, bad = _cf_failures(path, tmp_path / "cf.json")
+    assert report["high_count"] == 0 and report["medium_count"] == 0
+    assert not bad, "\n".join(bad)

@@ -58,6 +58,11 @@ LIQUIDUS_DELTA = 0.0100260  # K-2
 BRINE_SALINITY_LIMIT = LIQUIDUS_BETA / LIQUIDUS_DELTA
 
 
+
+#: Bulk salinities at or below this [g/kg] are treated as fresh ice by the enthalpy inversion
+#: (no physical meaning; smaller values only arise from underflow and make S / S_br(T) 0/0).
+FRESH_SALINITY = 1e-30
+
 @njit(cache=True)
 def brine_salinity_scalar(temperature):
     """Brine salinity on the liquidus [g kg-1] at ``temperature`` [degC]; 0 for T >= 0."""
@@ -157,8 +162,9 @@ def invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent,
     """
     h = enthalpy
     s = bulk_salinity
-    if s <= 0.0:
-        # fresh ice / water: closed form
+    if s <= FRESH_SALINITY:
+        # fresh ice / water: closed form (also below FRESH_SALINITY, where the brine salinity
+        # S / phi of a mushy cell at T -> 0 underflows)
         if h <= -rho * latent:
             return (h / rho + latent) / c_s, 0.0, 0.0, 1.0 / (rho * c_s), 0.0
         if h < 0.0:

@@ -468,7 +468,7 @@ def plot_salt(ds: xr.Dataset, title: str | None = None) -> Figure:
     ax_f.set_title("interval mean, positive into the ocean", loc="left", fontsize="small")
 
     cumulative = [("salt_released", "released to ocean", "tab:blue", "-"),
-                  ("salt_entrained", "entrained at ice base", "tab:orange", "--"),
+                  ("salt_entrained", "entrained (sea water at the base and in flooded snow)", "tab:orange", "--"),
                   ("salt_content", "held in the ice", "tab:green", ":")]
     for name, label, color, style in cumulative:
         if name not in ds.variables:

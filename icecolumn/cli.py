@@ -145,14 +145,17 @@ def _overrides(assignments: list[str] | None) -> dict[str, dict[str, Any]]:
     return merged
 
 
-def _column_map(pairs: list[str] | None) -> dict[str, str]:
-    out: dict[str, str] = {}
+def _column_map(pairs: list[str] | None, cfg=None) -> dict[str, str]:
+    """The configuration's ``[forcing] columns`` updated by the command line's ``--column`` pairs."""
+    out: dict[str, str] = dict(cfg.forcing.column_map()) if cfg is not None else {}
+    given: set[str] = set()
     for text in pairs or []:
         ours, sep, theirs = text.partition("=")
         if not sep or not ours.strip() or not theirs.strip():
             raise InputError(f"--column: {text!r} is not of the form ours=theirs (e.g. air_temperature=Tair)")
-        if ours.strip() in out:
+        if ours.strip() in given:
             raise InputError(f"--column: {ours.strip()!r} is given twice")
+        given.add(ours.strip())
         out[ours.strip()] = theirs.strip()
     return out
 
@@ -350,7 +353,7 @@ def run_command(
     if not (out.parent if str(out.parent) else Path(".")).is_dir():
         raise InputError(f"{out}: folder {out.parent} does not exist")
     cfg = icecolumn.load_config(config, _overrides(assignments))
-    data = icecolumn.read_forcing(forcing, _column_map(columns), max_gap=cfg.forcing.max_gap)
+    data = icecolumn.read_forcing(forcing, _column_map(columns, cfg), max_gap=cfg.forcing.max_gap)
     if repeat > 1:
         from .forcing import repeat_forcing
 

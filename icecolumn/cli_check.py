@@ -94,15 +94,16 @@ def register(app: typer.Typer) -> None:
                                                             "[default: [forcing] max_gap of --config, or 6h].")]
         = None,
         config: Annotated[Optional[Path], typer.Option("-c", "--config", help="Configuration TOML file "
-                                                       "(for [forcing] max_gap).")] = None,
+                                                       "(for [forcing] max_gap and columns).")] = None,
     ) -> None:
         """Check a forcing file and print its period, step, variables, gaps and freezing degree days."""
         from .cli import _column_map
         from .config import load_config
 
+        cfg = load_config(config)
         if max_gap is None:
-            max_gap = load_config(config).forcing.max_gap
+            max_gap = cfg.forcing.max_gap
         elif config is not None:
             raise InputError("check: give --max-gap or --config, not both")
-        ds, messages = check_forcing(forcing, _column_map(columns), max_gap)
+        ds, messages = check_forcing(forcing, _column_map(columns, cfg), max_gap)
         typer.echo(format_check(ds, messages))

@@ -54,6 +54,7 @@ __all__ = [
     "load_config",
     "config_from_toml_text",
     "parse_assignment",
+    "parse_column_map",
     "parameters_markdown",
     "toml_dumps",
 ]
@@ -76,7 +77,8 @@ PERMEABILITY_CHOICES: tuple[str, ...] = ("scheme", "freitag1999", "golden2007")
 class Param:
     """One configuration setting: default, unit, meaning and rule.
 
-    ``kind`` is one of ``"int"``, ``"float"``, ``"choice"``, ``"duration"``
+    ``kind`` is one of ``"int"``, ``"float"``, ``"choice"``, ``"columns"`` (text of
+    ``ours=theirs`` pairs), ``"duration"``
     (text such as ``"6h"``, kept as text) or ``"time"`` (ISO 8601 text or
     ``None``).  ``minimum``/``maximum`` bound numbers (and durations, in
     seconds); ``exclusive`` makes both given bounds strict; ``multiple_of``
@@ -100,6 +102,8 @@ class Param:
             return "one of " + ", ".join(f"`{c}`" for c in self.choices)
         if self.kind == "time":
             return "ISO 8601 time or unset"
+        if self.kind == "columns":
+            return "text of ours=theirs pairs, comma-separated"
         parts = []
         lo, hi = ("> ", "< ") if self.exclusive else ("≥ ", "≤ ")
         if self.minimum is not None:
@@ -152,6 +156,7 @@ PARAMETERS: dict[str, Param] = {
     "solver.rtol": Param(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True),
     "solver.max_step": Param("6h", "", "longest time step allowed", "duration"),
     "solver.initial_step": Param("10min", "", "first time step tried (at most max_step)", "duration"),
+    "forcing.columns": Param("", "", "forcing column (or NetCDF variable) names that differ from ours, as ours=theirs pairs separated by commas, e.g. 'air_temperature=Tair_C, wind_speed=WS' (--column on the command line adds to and overrides these)", "columns"),
     "forcing.max_gap": Param("6h", "", "longest gap in a forcing column (empty cells or missing rows) filled by linear interpolation; longer gaps are an error", "duration"),
 }
 
@@ -202,6 +207,14 @@ def _check_value(section: str, key: str, value: Any, source: str) -> Any:
         except InputError:
             raise fail("not an ISO 8601 time (e.g. '2026-10-01T00:00Z'; no offset means UTC)") from None
         return value.strip()
+    if p.kind == "columns":
+        if not isinstance(value, str):
+            raise InputError(f"{where}: expected a text of ours=theirs pairs, got {_show(value)}")
+        try:
+            pairs = parse_column_map(value, f"{where} = {_show(value)}")
+        except InputError:
+            raise
+        return ", ".join(f"{k}={v}" for k, v in pairs.items())
     if p.kind == "choice":
         if not isinstance(value, str):
             raise InputError(f"{where}: expected a name, got {_show(value)}")
@@ -236,6 +249,26 @@ def _check_value(section: str, key: str, value: Any, source: str) -> Any:
             raise fail("must be a finite number")
     _check_bounds(p, value, fail, unit=_unit_suffix(p.unit))
     return value
+
+
+def parse_column_map(text: str, where: str) -> dict[str, str]:
+    """``'ours=theirs, ours2=theirs2'`` -> {ours: theirs}; an empty text gives {}.
+
+    Raises :class:`InputError` (one line naming ``where``) for a pair without ``=``, an empty
+    side, or a name of ours given twice.  Whether the names exist is checked by the reader.
+    """
+    out: dict[str, str] = {}
+    for item in (text or "").split(","):
+        if not item.strip():
+            continue
+        ours, sep, theirs = item.partition("=")
+        ours, theirs = ours.strip(), theirs.strip()
+        if not sep or not ours or not theirs:
+            raise InputError(f"{where}: {item.strip()!r} is not of the form ours=theirs (e.g. air_temperature=Tair)")
+        if ours in out:
+            raise InputError(f"{where}: {ours!r} is given twice")
+        out[ours] = theirs
+    return out
 
 
 def _check_bounds(p: Param, number: float, fail, unit: str) -> None:
@@ -403,16 +436,19 @@ class SolverSection(_Section):
 class ForcingSection(_Section):
     """``[forcing]``: how the forcing file is read.
 
-    Only ``max_gap`` lives here.  The mapping of our variable names to the
-    file's column (or NetCDF variable) names is not a setting: the flat
-    :data:`PARAMETERS` table holds one scalar per key, and one key per forcing
-    variable would be many keys nearly always unset.  Give the mapping on the
-    command line (``--column ours=theirs``, repeatable) or as ``column_map`` to
-    :func:`icecolumn.read_forcing`.
+    ``columns`` maps our variable names to the file's column (or NetCDF
+    variable) names as one text of ``ours=theirs`` pairs (the flat
+    :data:`PARAMETERS` table holds one scalar per key); whether the names exist
+    is checked when a file is read.  The command line's ``--column`` adds to it.
     """
 
     section: ClassVar[str] = "forcing"
+    columns: str = _default("forcing.columns")
     max_gap: str = _default("forcing.max_gap")
+
+    def column_map(self) -> dict[str, str]:
+        """``columns`` as a dict {our name: the file's name}."""
+        return parse_column_map(self.columns, "[forcing] columns")
 
 
 @dataclass(frozen=True)

@@ -231,7 +231,7 @@ def load_spec(path) -> EnsembleSpec:
         if not p.is_file():
             raise InputError(f"{where}: forcing file {str(text_)!r} not found (looked for {p})")
         if p not in forcing_cache:
-            forcing_cache[p] = read_forcing(p)
+            forcing_cache[p] = read_forcing(p, base.forcing.column_map(), max_gap=base.forcing.max_gap)
         return forcing_cache[p]
 
     listed = raw_members or [{}]

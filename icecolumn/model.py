@@ -420,7 +420,7 @@ def run_ensemble(members: Sequence[Member], *, progress=None,
 
 
 #: Settings that may differ between a run and the run it restarts from.
-RESTART_FREE_KEYS = ("run.start", "run.end")
+RESTART_FREE_KEYS = ("run.start", "run.end", "forcing.columns")
 
 
 def restart_state(previous: xr.Dataset, config: Config, source: str = "restart file"):

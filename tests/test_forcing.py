@@ -10,6 +10,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+import icecolumn as ic
 from icecolumn.errors import InputError
 from icecolumn.forcing import VARIABLES, ForcingWarning, forcing_from_arrays, read_forcing
 
@@ -544,3 +545,34 @@ def test_forcing_from_arrays_accepts_station_variables():
         forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, -6.0], wind_speed=[1.0, -2.0])
     with pytest.raises(InputError, match="nan is not a finite number"):  # no gap filling for arrays
         forcing_from_arrays(["2026-10-01T00:00", "2026-10-01T01:00"], [-5.0, np.nan])
+
+
+def test_column_mapping_from_the_configuration(tmp_path):
+    from icecolumn.cli import main
+
+    csv = tmp_path / "station.csv"
+    csv.write_text("time,Tair_C,WS\n2026-11-01T00:00Z,-10.0,3.0\n2026-11-01T01:00Z,-11.0,4.0\n"
+                   "2026-11-01T02:00Z,-12.0,5.0\n")  # invented
+    cfg = tmp_path / "c.toml"
+    cfg.write_text('[forcing]\ncolumns = "air_temperature = Tair_C,wind_speed=WS"\n[output]\ninterval = "1h"\n')
+    loaded = ic.load_config(cfg)
+    assert loaded.forcing.columns == "air_temperature=Tair_C, wind_speed=WS"
+    assert loaded.forcing.column_map() == {"air_temperature": "Tair_C", "wind_speed": "WS"}
+    out = tmp_path / "r.nc"
+    assert main(["run", str(csv), "-c", str(cfg), "-o", str(out)]) == 0
+    import xarray as xr
+
+    with xr.open_dataset(out) as ds:
+        assert ds.sizes["time"] == 3
+    # the command line adds to and overrides the configuration's mapping
+    assert main(["check", str(csv), "-c", str(cfg), "--column", "wind_speed=WS"]) == 0
+    # a malformed mapping in the configuration is one clear error naming the key
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[forcing]\ncolumns = "air_temperature"\n')
+    with pytest.raises(InputError, match=r"\[forcing\] columns = 'air_temperature': 'air_temperature' is not of"):
+        ic.load_config(bad)
+    # a mapping to a column the file lacks: one line, exit 2, no output
+    wrong = tmp_path / "wrong.toml"
+    wrong.write_text('[forcing]\ncolumns = "air_temperature=T_air"\n')
+    out2 = tmp_path / "r2.nc"
+    assert main(["run", str(csv), "-c", str(wrong), "-o", str(out2)]) == 2 and not out2.exists()

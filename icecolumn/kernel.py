@@ -1011,11 +1011,11 @@ def _dh_column(y, r, a, amelt, n, par, f, temp, dtde, dtdm, kc, df0, sc, col):
 
 @njit(cache=True)
 def _newton_stage(y, base, a_dt, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc,
-                  lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in, af):
+                  lo, di, up, rhs, work_m, work_g, ftmp, col_r, maxit, wflux, qsink, ra, sc, a_in, af):
     """Solve y - a_dt f(y) = base for the stage value y (in place). Returns (ok, r, iterations).
 
-    ``sc`` (9, n + 1) is scratch space for the perturbed evaluation of the thickness column,
-    so the intensive state at ``y`` computed at the start of the iteration stays valid.
+    ``sc`` (9, n + 1) is scratch space for the face fluxes of the right-hand side and the
+    border columns of the Jacobian.
     """
     ncell = 2 * n
     r = _hdot_of_state(y, n, par, fw)
@@ -1410,7 +1410,7 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
         if not (y2[2 * n] > 0.5 * y[2 * n]):
             y2[2 * n] = y[2 * n]
         ok, r2, nit = _newton_stage(y2, base, _D * dt, n, par, fv2, fw2, f2, temp, phi, sbr, dtde,
-                               dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp, col_r, 10,
+                               dtdm, kc, lo, di, up, rhs, work_m, work_g, ftmp, col_r, 10,
                                wflux, qsink, ra, sc, a_in, af)
         nsteps_out[2] += nit
         if ok:
@@ -1422,7 +1422,7 @@ def _step_member(y, t0, t1, n, par_in, ft, forc, nsteps_out):
             if not (y3[2 * n] > 0.5 * y[2 * n]):
                 y3[2 * n] = y2[2 * n]
             ok, r3, nit = _newton_stage(y3, base, _D * dt, n, par, fv3, fw3, f3, temp, phi, sbr,
-                                        dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ytmp, ftmp,
+                                        dtde, dtdm, kc, lo, di, up, rhs, work_m, work_g, ftmp,
                                         col_r, 10, wflux, qsink, ra, sc, a_in, af)
             nsteps_out[2] += nit
         if not ok:

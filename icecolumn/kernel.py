@@ -365,33 +365,12 @@ def _surface(t0, k0, dz, fv, par, hs):
 
 
 @njit(cache=True)
-def _hdot(tb, kb, hb_vol, dz, h, fw, par):
-    """Basal velocity from the interface heat balance [m s-1]."""
-    rho = par[P_RHO]
-    tf = liquidus_temperature_scalar(par[P_SW])
-    hw = rho * par[P_CL] * tf
-    fc = kb * (tf - tb) / (0.5 * dz)
-    den = hw - hb_vol
-    dmin = DENOM_MIN * rho * par[P_L]
-    if den < dmin:
-        den = dmin
-    r = (fc - fw) / den
-    if r < 0.0:
-        a = (h - H_MIN) / H_MIN
-        if a < 0.0:
-            a = 0.0
-        if a > 1.0:
-            a = 1.0
-        r = r * a
-    return r
-
-
-@njit(cache=True)
 def _hdot_derivatives(y, n, par, fw, tb, kb, dtde_b, dtdm_b):
-    """Basal velocity (as :func:`_hdot`, from the bottom layer's temperature ``tb`` and
-    conductivity ``kb``) and its derivatives w.r.t. the bottom layer's enthalpy and salt
-    contents and the thickness at fixed contents (the conductivity's own dependence is left out,
-    as in the cell blocks)."""
+    """Basal velocity [m s-1] from the interface heat balance dh/dt (H_w - H_N) = F_c - F_w
+    (bottom layer's temperature ``tb`` and conductivity ``kb``; the enthalpy jump bounded below
+    by DENOM_MIN rho L; melting throttled to zero at H_MIN) and its derivatives w.r.t. the
+    bottom layer's enthalpy and salt contents and the thickness at fixed contents (the
+    conductivity's own dependence is left out, as in the cell blocks)."""
     rho = par[P_RHO]
     h = y[2 * n]
     ih = 1.0 / h
@@ -436,9 +415,9 @@ def _hdot_of_state(y, n, par, fw):
     k = n - 1
     hv = y[k] / dz
     s = 1000.0 * y[n + k] / (rho * dz)
-    t, p, b, _, _ = invert_enthalpy_scalar(hv, s, rho, par[P_CS], par[P_CL], par[P_L])
+    t, p, b, dth, dts = invert_enthalpy_scalar(hv, s, rho, par[P_CS], par[P_CL], par[P_L])
     kb = conductivity_scalar(int(par[P_KMODEL]), t, p, s, par[P_KICE])
-    return _hdot(t, kb, hv, dz, h, fw, par)
+    return _hdot_derivatives(y, n, par, fw, t, kb, dth / dz, dts * 1000.0 / (rho * dz))[0]
 
 
 @njit(cache=True)
@@ -697,12 +676,12 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
         fe[j] = 2.0 * k0 * k1 / (k0 + k1) * (temp[j - 1] - temp[j]) * idz - w * y[up]
         fm[j] = -w * y[n + up]
     drain = int(par[P_DRAIN]) != 0
+    rcl = rho * par[P_CL]
+    cw = rho / 1000.0
     if drain:
         # gravity drainage: upward return flow through the interior faces carries the brine of
         # the layer below (its enthalpy at the layer's temperature)
         _drainage(y, n, par, temp, phi, sbr, wflux, qsink, ra)
-        rcl = rho * par[P_CL]
-        cw = rho / 1000.0
         for j in range(1, n):
             fm[j] -= wflux[j] * cw * sbr[j]
             fe[j] -= wflux[j] * rcl * temp[j]
@@ -736,8 +715,6 @@ def _rhs(y, r, n, par, fv, fw, f, temp, phi, sbr, dtde, dtdm, kc, want_cells, wf
     else:
         f[nb + B_S_MELT] = -sm
     if drain:
-        rcl = rho * par[P_CL]
-        cw = rho / 1000.0
         win = wflux[n]
         f[2 * n - 1] += win * mw
         f[n - 1] += win * rcl * tf

@@ -25,7 +25,7 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .textfile import read_csv_rows
+from .textfile import column_numbers, read_csv_rows
 from .timeutil import format_time, parse_times
 
 __all__ = ["read_observations"]
@@ -76,18 +76,7 @@ def read_observations(path: str | Path) -> xr.Dataset:
     for col in ("ice_thickness", *_OPTIONAL):
         if col not in columns:
             continue
-        values = np.empty(len(rows))
-        for i, t in enumerate(columns[col]):
-            try:
-                v = float(t)
-            except ValueError:
-                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
-            if not math.isfinite(v):
-                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a finite number")
-            if v < 0:
-                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {v:g} m is negative")
-            values[i] = v
-        data[col] = values
+        data[col] = column_numbers(name, col, columns[col], lines, nonnegative_unit="m")
     steps = np.diff(times.astype("int64"))
     bad = np.flatnonzero(steps <= 0)
     if bad.size:

@@ -14,6 +14,7 @@ import numpy as np
 import xarray as xr
 
 from . import kernel as K
+from .constants import SEAWATER_DENSITY
 from ._version import __version__
 from .errors import InputError
 from .textfile import check_new_output, write_atomically
@@ -180,7 +181,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         v[name] = (dims_t, b[..., idx], _attrs("m", f"{text}, {cum}"))
     v["salt_released_surface_melt"] = (dims_t, b[..., K.B_S_SURFMELT],
                                        _attrs("kg m-2", f"salt carried to the ocean by surface melt water, {cum}"))
-    rho_w = 1028.0  # kg m-3, sea water near freezing (gsw: 1028.05 at SA = 35)
+    rho_w = SEAWATER_DENSITY
     rho_s = np.array([c.snow.density for c in raw.configs])[:, None]
     draft = (rho * h + rho_s * snow) / rho_w
     v["draft"] = (dims_t, draft, _attrs("m", "ice draft (depth of the ice base below the water line)",

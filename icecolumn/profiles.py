@@ -30,7 +30,6 @@ point) applies.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -38,7 +37,7 @@ import numpy as np
 
 from .errors import InputError
 from .model import InitialProfile
-from .textfile import read_csv_rows
+from .textfile import column_numbers, read_csv_rows
 from .timeutil import parse_time, parse_times
 
 __all__ = ["ThermistorReading", "CoreReading", "read_thermistor", "read_core", "first_year_salinity",
@@ -94,16 +93,7 @@ def _read_table(path, need: tuple[str, ...], what: str) -> tuple[str, dict[str, 
 
 
 def _numbers(name: str, cols: dict, lines: list[int], col: str) -> np.ndarray:
-    out = np.empty(len(lines))
-    for i, t in enumerate(cols[col]):
-        try:
-            v = float(t)
-        except ValueError:
-            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
-        if not math.isfinite(v):
-            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a finite number")
-        out[i] = v
-    return out
+    return column_numbers(name, col, cols[col], lines)
 
 
 def _select_time(name: str, cols: dict, lines: list[int], at) -> tuple[np.ndarray, np.datetime64 | None]:

@@ -1,7 +1,10 @@
 """User files: reading text with one-line errors, and writing outputs atomically."""
 from __future__ import annotations
 
+import math
 from pathlib import Path
+
+import numpy as np
 
 from .errors import InputError
 
@@ -67,6 +70,24 @@ def read_csv_rows(path, what: str, expected: str = "") -> tuple[list[str], int, 
     if header is None:
         raise InputError(f"{name}: file is empty" + (f" (expected columns {expected})" if expected else ""))
     return header, header_no, rows
+
+
+def column_numbers(name: str, col: str, texts: list[str], lines: list[int], nonnegative_unit: str | None = None):
+    """Finite float64 values of one CSV column; the first bad cell is an :class:`InputError`
+    naming the file, line and column.  With ``nonnegative_unit`` (e.g. ``"m"``) a negative
+    value is an error too."""
+    out = np.empty(len(texts))
+    for i, t in enumerate(texts):
+        try:
+            v = float(t)
+        except ValueError:
+            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
+        if not math.isfinite(v):
+            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a finite number")
+        if nonnegative_unit is not None and v < 0:
+            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {v:g} {nonnegative_unit} is negative")
+        out[i] = v
+    return out
 
 
 def check_new_output(path, overwrite: bool = False):

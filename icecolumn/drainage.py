@@ -65,14 +65,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from ._jit import jit
 from .constants import GRAVITY
-from .kernel import P_DALPHA, P_DAVG, P_DBETA, P_DKAPPA, P_DMU, P_DPERM, P_DPHIC, P_DPHIW, P_DRAC, \
-    P_DRAMP, P_FLUSH, permeability_scalar
 
-#: Scheme name -> kernel code.
-DRAINAGE_CODES = {"none": 0, "griewank_notz2013": 1, "rees_jones_worster2014": 2}
-
-#: Permeability law name -> kernel code.
+#: Permeability law name -> the integer code :func:`permeability_scalar` takes.
 PERMEABILITY_LAWS = {"freitag1999": 0, "golden2007": 1}
 
 #: Defaults each scheme was calibrated with (see module docstring for sources).
@@ -90,6 +86,70 @@ BRINE_VISCOSITY = 1.9e-3  # kg m-1 s-1, cold brine
 BRINE_THERMAL_DIFFUSIVITY = 1.2e-7  # m2 s-1
 BRINE_DENSITY_SLOPE = 0.8  # kg m-3 per g/kg, consistent with TEOS-10 (0.81)
 PERCOLATION_WIDTH = 0.01  # width of the C1 step above the percolation threshold [1]
+
+
+@jit
+def percolation_gate_scalar(liquid_fraction, threshold, width):
+    """C1 step [1] from 0 at the percolation threshold to 1 at ``threshold + width``.
+
+    ``x^2 (3 - 2x)`` with ``x = (phi - threshold) / width`` (a smooth onset of this project; the
+    threshold itself is the published percolation threshold, e.g. Golden et al. 1998, Science 282,
+    2238; Maus et al. 2021, The Cryosphere 15, 4047).  Arguments are liquid fractions [1].
+    """
+    x = (liquid_fraction - threshold) / width
+    if x <= 0.0:
+        return 0.0
+    return 1.0 if x >= 1.0 else x * x * (3.0 - 2.0 * x)
+
+
+@jit
+def permeability_scalar(law, phi, phic, phiw):
+    """Permeability [m2] of sea ice at liquid fraction ``phi`` [1].
+
+    law 0: Freitag (1999, PhD thesis, Bremen) 1e-17 (1e3 phi)^3.1 (from memory);
+    law 1: Golden et al. (2007, GRL 34, L16501) 3e-8 phi^3 (fit from memory).
+    Both are multiplied by :func:`percolation_gate_scalar` (impermeable below the threshold
+    ``phic``, fully permeable above ``phic + phiw``).
+    """
+    if phi <= phic:
+        return 0.0
+    step = percolation_gate_scalar(phi, phic, phiw)
+    if law == 0:
+        base = 1e-17 * (1e3 * phi) ** 3.1
+    else:
+        base = 3e-8 * phi * phi * phi
+    return base * step
+
+
+@jit
+def onset_ramp_scalar(x, eps):
+    """C1 ramp: 0 for x <= 0, x^2/(2 eps) up to eps, then x - eps/2 (a smoothed (x)+ of this project)."""
+    if x <= 0.0:
+        return 0.0
+    if x < eps:
+        return 0.5 * x * x / eps
+    return x - 0.5 * eps
+
+
+@jit
+def rayleigh_coefficient_scalar(density_slope, diffusivity, viscosity, gravity):
+    """The brine-property factor g beta_rho / (kappa mu) of the Rayleigh number [m-3 (g/kg)-1].
+
+    ``density_slope`` beta_rho [kg m-3 (g/kg)-1], ``diffusivity`` kappa [m2 s-1], ``viscosity``
+    mu [kg m-1 s-1], ``gravity`` g [m s-2]; Ra = coefficient (S_br - S_w) Pi (h - z).
+    """
+    return gravity * density_slope / (diffusivity * viscosity)
+
+
+@jit
+def rayleigh_number_scalar(coefficient, brine_salinity, ocean_salinity, permeability, height):
+    """Local mush Rayleigh number [1] (Notz & Worster 2008, JGR 113, C03001; form from memory).
+
+    Ra = g drho Pi (h - z) / (kappa mu) with drho = beta_rho (S_br - S_w); ``coefficient`` from
+    :func:`rayleigh_coefficient_scalar`, salinities [g kg-1], permeability [m2], height above the
+    ice base [m].
+    """
+    return coefficient * (brine_salinity - ocean_salinity) * permeability * height
 
 
 def permeability(liquid_fraction, law="freitag1999", percolation_threshold=0.0,
@@ -149,8 +209,9 @@ def rayleigh_number(brine_salinity, effective_permeability, height, ocean_salini
     -----
     Ra = g drho Pi (h - z) / (kappa mu) (Notz & Worster 2008, JGR 113, C03001; from memory).
     """
-    drho = density_slope * (np.asarray(brine_salinity, dtype=float) - ocean_salinity)
-    return gravity * drho * np.asarray(effective_permeability) * np.asarray(height) / (diffusivity * viscosity)
+    coef = rayleigh_coefficient_scalar(density_slope, diffusivity, viscosity, gravity)
+    return np.vectorize(rayleigh_number_scalar, otypes=[float])(coef, brine_salinity, ocean_salinity,
+                                                                 effective_permeability, height)
 
 
 def scheme_settings(cfg) -> dict:
@@ -167,20 +228,3 @@ def scheme_settings(cfg) -> dict:
         "percolation_threshold": d.percolation_threshold,
         "onset_smoothing": d.onset_smoothing,
     }
-
-
-def drainage_parameters(cfg, p):
-    """Write the drainage scheme's parameters into the kernel parameter row ``p``."""
-    s = scheme_settings(cfg)
-    p[P_DALPHA] = s["flux_coefficient"]
-    p[P_DRAC] = s["critical_rayleigh"]
-    p[P_DPHIC] = s["percolation_threshold"]
-    p[P_DPHIW] = PERCOLATION_WIDTH
-    p[P_DPERM] = PERMEABILITY_LAWS[s["permeability"]]
-    p[P_DAVG] = s["averaging"]
-    p[P_DKAPPA] = BRINE_THERMAL_DIFFUSIVITY
-    p[P_DMU] = BRINE_VISCOSITY
-    p[P_DRAMP] = s["onset_smoothing"]
-    p[P_DBETA] = BRINE_DENSITY_SLOPE
-    p[P_FLUSH] = cfg.drainage.flushing_fraction
-    return p

@@ -15,10 +15,10 @@ import xarray as xr
 
 from . import kernel as K
 from .config import Config, default_config
-from .drainage import DRAINAGE_CODES, drainage_parameters
+from .constants import SEAWATER_DENSITY
 from .errors import IceColumnError, InputError
 from .phase import liquidus_temperature_scalar, state_enthalpy
-from .properties import CONDUCTIVITY_MODELS
+from .properties import snow_conductivity_of
 from .timeutil import parse_duration, parse_time
 
 
@@ -53,7 +53,6 @@ class RawResult:
     bulk_salinity: np.ndarray
     surface_temperature: np.ndarray
     air_temperature_mean: np.ndarray
-    ocean_heat_flux_mean: np.ndarray
     ocean_heat_flux_source: list
     configs: list
     forcings: list
@@ -61,37 +60,9 @@ class RawResult:
     extra: dict = field(default_factory=dict)
 
 
-def parameter_vector(cfg: Config) -> np.ndarray:
-    """Kernel parameter row for one member (see ``kernel.P_*``)."""
-    p = np.zeros(K.NPAR)
-    pr = cfg.properties
-    p[K.P_RHO] = pr.ice_density
-    p[K.P_CS] = pr.ice_specific_heat
-    p[K.P_CL] = pr.brine_specific_heat
-    p[K.P_L] = pr.latent_heat
-    p[K.P_KMODEL] = CONDUCTIVITY_MODELS[pr.conductivity_model]
-    p[K.P_KICE] = pr.ice_conductivity
-    p[K.P_SW] = cfg.ocean.salinity
-    p[K.P_FW] = cfg.ocean.heat_flux
-    p[K.P_HTC] = cfg.surface.heat_transfer_coefficient
-    p[K.P_KSNOW] = snow_conductivity(cfg)
-    p[K.P_RHOSNOW] = cfg.snow.density
-    p[K.P_HSNOW] = cfg.initial.snow_thickness
-    # "auto" is resolved against the forcing by resolve_surface_scheme(); linear until then
-    p[K.P_SURF] = K.SURFACE_SCHEMES.get(cfg.surface.scheme, K.SURFACE_SCHEMES["linear"])
-    p[K.P_RTOL] = cfg.solver.rtol
-    p[K.P_MAXDT] = parse_duration(cfg.solver.max_step)
-    p[K.P_INITDT] = parse_duration(cfg.solver.initial_step)
-    p[K.P_DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
-    p[K.P_TMELT] = 0.0
-    p[K.P_WIND] = 5.0  # m s-1, used by the energy balance when the forcing has no wind_speed
-    p[K.P_MLD] = cfg.ocean.mixed_layer_depth
-    p[K.P_H0] = cfg.ocean.new_ice_thickness
-    p[K.P_MLTAU] = cfg.ocean.salinity_restoring_time * 86400.0
-    p[K.P_SREF] = cfg.ocean.salinity
-    p[K.P_FLOODTAU] = parse_duration(cfg.snow.flooding_timescale) if cfg.snow.flooding == "hydrostatic" else 0.0
-    drainage_parameters(cfg, p)
-    return p
+def parameter_vector(cfg: Config, surface_scheme: str | None = None) -> np.ndarray:
+    """Kernel parameter row for one member (:func:`icecolumn.kernel.parameter_row`)."""
+    return K.parameter_row(cfg, surface_scheme)
 
 
 def resolve_surface_scheme(cfg: Config, forcing: xr.Dataset) -> str:
@@ -105,11 +76,7 @@ def resolve_surface_scheme(cfg: Config, forcing: xr.Dataset) -> str:
 def snow_conductivity(cfg: Config) -> float:
     """Snow conductivity [W m-1 K-1] of the configuration: constant, or Sturm et al. (1997) at
     the configured density."""
-    from .properties import snow_conductivity_sturm1997
-
-    if cfg.snow.conductivity_model == "sturm1997":
-        return float(snow_conductivity_sturm1997(cfg.snow.density))
-    return cfg.snow.conductivity
+    return snow_conductivity_of(cfg.snow.conductivity_model, cfg.snow.conductivity, cfg.snow.density)
 
 
 def ocean_freezing_temperature(cfg: Config) -> float:
@@ -162,10 +129,11 @@ def state_from_profile(cfg: Config, thickness: float, temperature, bulk_salinity
                            pr.brine_specific_heat, pr.latent_heat)
     dz = thickness / n
     y = np.zeros(K.state_size(n))
-    y[:n] = hv * dz
-    y[n:2 * n] = pr.ice_density * bulk_salinity / 1000.0 * dz
-    y[2 * n] = thickness
-    y[2 * n + 1 + K.B_SNOW] = cfg.initial.snow_thickness
+    v = K.view(y, n)
+    v.enthalpy_content[:] = hv * dz
+    v.salt_content[:] = pr.ice_density * bulk_salinity / 1000.0 * dz
+    v.thickness[...] = thickness
+    v.set_slot("snow_thickness", cfg.initial.snow_thickness)
     _init_mixed_layer(cfg, y, n)
     return y
 
@@ -183,19 +151,24 @@ def _init_mixed_layer(cfg: Config, y: np.ndarray, n: int) -> None:
     d = cfg.ocean.mixed_layer_depth
     if d <= 0.0:
         return
-    from .constants import SEAWATER_DENSITY
-
-    nb = 2 * n + 1
+    v = K.view(y, n)
     w = SEAWATER_DENSITY * d
-    y[nb + K.B_ML_W] = w
-    y[nb + K.B_ML_S] = w * cfg.ocean.salinity / 1000.0
-    y[nb + K.B_ML_E] = cfg.properties.brine_specific_heat * w * ocean_freezing_temperature(cfg)
+    v.set_slot("mixed_layer_mass", w)
+    v.set_slot("mixed_layer_salt", w * cfg.ocean.salinity / 1000.0)
+    v.set_slot("mixed_layer_enthalpy", cfg.properties.brine_specific_heat * w * ocean_freezing_temperature(cfg))
+
+
+#: Bulk conductivity used to place the initial linear temperature profile when the conductivity
+#: depends on the state [W m-1 K-1]: a representative value for cold first-year sea ice (measured
+#: 2.09-2.14 on first-year cores by Pringle, Trodahl & Haskell 2006, JGR 111, C05020; rounded).
+INITIAL_PROFILE_CONDUCTIVITY = 2.0
 
 
 def _steady_surface_temperature(cfg: Config, air: float) -> float:
     """Surface temperature of a linear profile in balance with the linear surface flux."""
     tf = ocean_freezing_temperature(cfg)
-    k = 2.0 if cfg.properties.conductivity_model != "constant" else cfg.properties.ice_conductivity
+    k = INITIAL_PROFILE_CONDUCTIVITY if cfg.properties.conductivity_model != "constant" else \
+        cfg.properties.ice_conductivity
     r_ice = cfg.initial.ice_thickness / k
     if cfg.initial.snow_thickness > 0:
         r_ice += cfg.initial.snow_thickness / snow_conductivity(cfg)
@@ -297,14 +270,12 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
             raise InputError(f"{source}: the forcing has an ocean_temperature column and [ocean] mixed_layer_depth "
                              f"is set; use one of the two (the mixed layer computes its own temperature)")
     ft, forc = _forcing_arrays(members, start)
-    fa = forc[:, K.F_AIR]
-    fts = forc[:, K.F_TSURF]
-    fq = forc[:, K.F_QOCEAN]
+    fa = forc[:, K.F.AIR]
+    fts = forc[:, K.F.TSURF]
+    fq = forc[:, K.F.QOCEAN]
     nm = len(members)
-    pars = np.ascontiguousarray(np.stack([parameter_vector(m.config) for m in members]))
     schemes = [resolve_surface_scheme(m.config, m.forcing) for m in members]
-    for i, sch in enumerate(schemes):
-        pars[i, K.P_SURF] = K.SURFACE_SCHEMES[sch]
+    pars = np.ascontiguousarray(np.stack([parameter_vector(m.config, sch) for m, sch in zip(members, schemes)]))
     ys = np.empty((nm, K.state_size(n)))
     for i, m in enumerate(members):
         if initial_states is not None:
@@ -363,18 +334,17 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
             bad = int(np.flatnonzero(status)[0])
             raise IceColumnError(
                 f"solver failed for member {bad} between {str(times[it - 1])[:19]} and "
-                f"{str(times[it])[:19]} (step size underflow); try a smaller [solver] max_step or rtol")
+                f"{str(times[it])[:19]} ({K.STATUS_MESSAGES.get(int(status[bad]), 'unknown status')}); "
+                f"try a smaller [solver] max_step or rtol")
         record(it)
         if progress is not None:
             progress(it, nt - 1)
     air_mean = np.stack([_interval_mean(ft, fa[i], tsec) for i in range(nm)])
-    fq_used = np.where(np.isfinite(fq), fq, pars[:, K.P_FW][:, None])
-    fq_mean = np.stack([_interval_mean(ft, fq_used[i], tsec) for i in range(nm)])
     fq_source = ["forcing column ocean_heat_flux" if np.isfinite(fq[i]).all() else "configuration [ocean] heat_flux"
                  for i in range(nm)]
     return RawResult(times=times, layers=n, state=state, temperature=temp, liquid_fraction=phi,
                      brine_salinity=sbr, bulk_salinity=sal, surface_temperature=tsurf,
-                     air_temperature_mean=air_mean, ocean_heat_flux_mean=fq_mean,
+                     air_temperature_mean=air_mean,
                      ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
                      forcings=[m.forcing for m in members], counters=counters,
                      extra={"surface_schemes": schemes, "rayleigh_number": rayleigh, "surface_melt_energy": melt_energy,

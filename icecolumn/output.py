@@ -6,15 +6,16 @@ mean"``; NaN at the first time).  Cumulative budget terms start at 0.
 """
 from __future__ import annotations
 
-import hashlib
 import os
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 
+from . import buoyancy
 from . import kernel as K
 from .constants import SEAWATER_DENSITY
+from .ocean import mixed_layer_temperature_salinity
 from ._version import __version__
 from .errors import InputError
 from .textfile import check_new_output, write_atomically
@@ -54,28 +55,29 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     nm, nt = st.shape[:2]
     times = raw.times
     tsec = ((times - times[0]) / np.timedelta64(1, "s")).astype(float)
-    e = st[..., :n]
-    m = st[..., n:2 * n]
-    h = st[..., 2 * n]
-    b = st[..., 2 * n + 1:]
-    e_surf = b[..., K.B_E_SURF]
-    e_ocean = b[..., K.B_E_OCEAN]
-    e_water = b[..., K.B_E_WATER]
-    s_ent = b[..., K.B_S_ENTRAIN]
-    s_melt = b[..., K.B_S_MELT]
-    s_drain = b[..., K.B_S_DRAIN]
-    e_drain = b[..., K.B_E_DRAIN]
-    v_drain = b[..., K.B_V_DRAIN]
-    e_flush = b[..., K.B_E_FLUSH]
-    e_flood = b[..., K.B_E_FLOOD_SNOW] + b[..., K.B_E_FLOOD_WATER]
-    e_meltout = b[..., K.B_E_MELTOUT]
-    frazil = b[..., K.B_FRAZIL]
+    sv = K.view(st, n)
+    e = sv.enthalpy_content
+    m = sv.salt_content
+    h = sv.thickness
+    slot = sv.slot
+    e_surf = slot("energy_surface")
+    e_ocean = slot("energy_ocean")
+    e_water = slot("energy_water")
+    s_ent = slot("salt_entrained")
+    s_melt = slot("salt_melt")
+    s_drain = slot("salt_drainage")
+    e_drain = slot("energy_drainage")
+    v_drain = slot("brine_volume_drained")
+    e_flush = slot("energy_flushing")
+    e_flood = slot("energy_flooding_snow") + slot("energy_flooding_water")
+    e_meltout = slot("energy_melt_out")
+    frazil = slot("frazil_heat")
     energy_input = e_surf + e_ocean + e_water + e_drain + e_flush + e_flood + e_meltout
     ice = h > 0.0
     with np.errstate(invalid="ignore", divide="ignore"):
         h_layer = np.where(ice, h, np.nan)[..., None] / n
     rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
-    salt_released = s_melt + s_drain + b[..., K.B_S_SURFMELT] + b[..., K.B_S_FLUSH]
+    salt_released = s_melt + s_drain + slot("salt_surface_melt") + slot("salt_flushing")
     frac = (np.arange(n) + 0.5) / n
     hm = np.where(ice, h, np.nan)[..., None]  # no layers in open water
     depth = hm * frac
@@ -154,7 +156,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                                   f"complete melt-out, {cum}"))
     v["energy_input_flushing"] = (dims_t, e_flush,
                                   _attrs("J m-2", f"enthalpy carried by flushing (melt water in minus brine out), {cum}"))
-    v["salt_released_flushing"] = (dims_t, b[..., K.B_S_FLUSH],
+    v["salt_released_flushing"] = (dims_t, slot("salt_flushing"),
                                    _attrs("kg m-2", f"salt flushed out of the ice base by melt water, {cum}"))
     v["energy_input_drainage"] = (dims_t, e_drain,
                                   _attrs("J m-2", f"enthalpy carried by the drainage exchange (sea water in minus "
@@ -173,17 +175,16 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["surface_melt_energy_flux"] = (dims_t, raw.extra["surface_melt_energy"],
                                      _attrs("W m-2", "energy flux melting the ice surface (surface at its "
                                                      "melting point)", comment="instantaneous"))
-    for name, idx, text in (("surface_melt", K.B_H_SURFMELT, "ice melted at the surface"),
-                            ("basal_melt", K.B_H_BMELT, "ice melted at the base"),
-                            ("congelation_growth", K.B_H_GROW, "congelation ice grown at the base (and new ice "
-                                                               "formed in open water)"),
-                            ("snow_ice_growth", K.B_H_SNOWICE, "snow-ice formed by flooding of the snow")):
-        v[name] = (dims_t, b[..., idx], _attrs("m", f"{text}, {cum}"))
-    v["salt_released_surface_melt"] = (dims_t, b[..., K.B_S_SURFMELT],
+    for name, text in (("surface_melt", "ice melted at the surface"),
+                       ("basal_melt", "ice melted at the base"),
+                       ("congelation_growth", "congelation ice grown at the base (and new ice formed in open water)"),
+                       ("snow_ice_growth", "snow-ice formed by flooding of the snow")):
+        v[name] = (dims_t, slot(name), _attrs("m", f"{text}, {cum}"))
+    v["salt_released_surface_melt"] = (dims_t, slot("salt_surface_melt"),
                                        _attrs("kg m-2", f"salt carried to the ocean by surface melt water, {cum}"))
     rho_w = SEAWATER_DENSITY
     rho_s = np.array([c.snow.density for c in raw.configs])[:, None]
-    draft = (rho * h + rho_s * snow) / rho_w
+    draft = buoyancy.draft(h, snow, rho, rho_s)
     v["draft"] = (dims_t, draft, _attrs("m", "ice draft (depth of the ice base below the water line)",
                                         "sea_ice_draft",
                                         comment=f"hydrostatic balance with ice density {float(rho.ravel()[0]):g}, "
@@ -204,10 +205,8 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         from .phase import liquidus_temperature
 
         cl = np.array([c.properties.brine_specific_heat for c in raw.configs])[:, None]
-        wml = b[..., K.B_ML_W]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            t_ml = np.where(wml > 0, b[..., K.B_ML_E] / (cl * wml), np.nan)
-            s_ml = np.where(wml > 0, 1000.0 * b[..., K.B_ML_S] / wml, np.nan)
+        wml = slot("mixed_layer_mass")
+        t_ml, s_ml = mixed_layer_temperature_salinity(slot("mixed_layer_enthalpy"), wml, slot("mixed_layer_salt"), cl)
         v["mixed_layer_temperature"] = (dims_t, t_ml, _attrs("degC", "temperature of the ocean mixed layer",
                                                              "sea_water_temperature"))
         v["mixed_layer_salinity"] = (dims_t, s_ml, _attrs("g kg-1", "Absolute Salinity of the ocean mixed layer",
@@ -215,12 +214,12 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         v["mixed_layer_freezing_temperature"] = (dims_t, liquidus_temperature(np.nan_to_num(s_ml)),
                                                  _attrs("degC", "freezing temperature of the mixed layer (model "
                                                                 "liquidus)"))
-        v["mixed_layer_heat_input_surface"] = (dims_t, b[..., K.B_E_ML_SURF],
+        v["mixed_layer_heat_input_surface"] = (dims_t, slot("energy_mixed_layer_surface"),
                                                _attrs("J m-2", f"heat into the open-water surface of the mixed "
                                                                f"layer, {cum}"))
-        v["mixed_layer_heat_input_deep"] = (dims_t, b[..., K.B_E_ML_DEEP],
+        v["mixed_layer_heat_input_deep"] = (dims_t, slot("energy_mixed_layer_deep"),
                                             _attrs("J m-2", f"heat from the deep ocean into the mixed layer, {cum}"))
-        v["mixed_layer_salt_input_deep"] = (dims_t, b[..., K.B_S_ML_DEEP],
+        v["mixed_layer_salt_input_deep"] = (dims_t, slot("salt_mixed_layer_deep"),
                                             _attrs("kg m-2", f"salt from the deep ocean restoring the mixed-layer "
                                                              f"salinity ([ocean] salinity_restoring_time), {cum}"))
     v["depth"] = (dims_tl, depth, _attrs("m", "depth of the layer centre below the ice surface",
@@ -284,12 +283,3 @@ def write_netcdf(ds: xr.Dataset, path, overwrite: bool = False) -> Path:
     enc["time"] = {"units": f"hours since {str(ds['time'].values[0])[:19].replace('T', ' ')}",
                    "calendar": "standard", "dtype": "float64", "_FillValue": None}
     return write_atomically(path, lambda tmp: ds.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc))
-
-
-def file_sha256(path) -> str:
-    """Hex SHA-256 digest of a file's bytes."""
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for chunk in iter(lambda: f.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()

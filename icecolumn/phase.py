@@ -45,7 +45,7 @@ safeguarded Newton iteration on T (bracketed, with bisection fall-back); a fresh
 from __future__ import annotations
 
 import numpy as np
-from numba import njit
+from ._jit import jit
 
 from .constants import BRINE_SPECIFIC_HEAT, ICE_DENSITY, ICE_SPECIFIC_HEAT, LATENT_HEAT
 
@@ -63,7 +63,7 @@ BRINE_SALINITY_LIMIT = LIQUIDUS_BETA / LIQUIDUS_DELTA
 #: (no physical meaning; smaller values only arise from underflow and make S / S_br(T) 0/0).
 FRESH_SALINITY = 1e-30
 
-@njit(cache=True)
+@jit
 def brine_salinity_scalar(temperature):
     """Brine salinity on the liquidus [g kg-1] at ``temperature`` [degC]; 0 for T >= 0."""
     x = -temperature
@@ -72,7 +72,7 @@ def brine_salinity_scalar(temperature):
     return x * (LIQUIDUS_ALPHA + LIQUIDUS_BETA * x) / (1.0 + x * (LIQUIDUS_GAMMA + LIQUIDUS_DELTA * x))
 
 
-@njit(cache=True)
+@jit
 def brine_salinity_derivative_scalar(temperature):
     """d S_br / d T [g kg-1 K-1] (negative: colder brine is saltier)."""
     x = -temperature
@@ -85,7 +85,7 @@ def brine_salinity_derivative_scalar(temperature):
     return -(dnum * den - num * dden) / (den * den)
 
 
-@njit(cache=True)
+@jit
 def liquidus_temperature_scalar(brine_salinity):
     """Freezing temperature [degC] of brine of salinity ``brine_salinity`` [g kg-1].
 
@@ -106,14 +106,7 @@ def liquidus_temperature_scalar(brine_salinity):
     return -x
 
 
-@njit(cache=True)
-def enthalpy_scalar(temperature, liquid_fraction, rho, c_s, c_l, latent):
-    """Mushy-layer enthalpy per unit volume [J m-3] (reference: liquid at 0 degC)."""
-    phi = liquid_fraction
-    return rho * ((phi * c_l + (1.0 - phi) * c_s) * temperature - (1.0 - phi) * latent)
-
-
-@njit(cache=True)
+@jit
 def _mush_enthalpy(t, s, rho, c_s, c_l, latent):
     """Enthalpy of mush at temperature t with bulk salinity s, and dH/dT, dH/dS."""
     sbr = brine_salinity_scalar(t)
@@ -127,7 +120,7 @@ def _mush_enthalpy(t, s, rho, c_s, c_l, latent):
     return h, dh_dt, dh_ds
 
 
-@njit(cache=True)
+@jit
 def invert_enthalpy_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
     """Temperature, liquid fraction and brine salinity from enthalpy and bulk salinity.
 
@@ -136,7 +129,7 @@ def invert_enthalpy_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
     return invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent, np.nan)
 
 
-@njit(cache=True)
+@jit
 def invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent, guess):
     """Temperature, liquid fraction and brine salinity from enthalpy and bulk salinity.
 
@@ -224,7 +217,7 @@ def invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent,
     return t, phi, sbr, 1.0 / dh_dt, -dh_ds / dh_dt
 
 
-@njit(cache=True)
+@jit
 def _invert_array(h, s, rho, c_s, c_l, latent, t, phi, sbr):
     for i in range(h.size):
         t[i], phi[i], sbr[i], _, _ = invert_enthalpy_scalar(h[i], s[i], rho, c_s, c_l, latent)

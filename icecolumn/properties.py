@@ -6,7 +6,7 @@ kernel; the public names are numpy wrappers of the same code.
 from __future__ import annotations
 
 import numpy as np
-from numba import njit
+from ._jit import jit
 
 #: Conductivity model names accepted in ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS = {"constant": 0, "parallel_yen1991": 1, "untersteiner1964": 2}
@@ -15,7 +15,7 @@ CONDUCTIVITY_MODELS = {"constant": 0, "parallel_yen1991": 1, "untersteiner1964":
 UNTERSTEINER_BETA = 0.13  # widely quoted value, from memory (0.1172 is also quoted)
 
 
-@njit(cache=True)
+@jit
 def pure_ice_conductivity_scalar(temperature):
     """Pure-ice conductivity of Yen et al. (1991) [W m-1 K-1] at ``temperature`` [degC].
 
@@ -26,7 +26,7 @@ def pure_ice_conductivity_scalar(temperature):
     return 1.16 * (1.91 - 8.66e-3 * t + 2.97e-5 * t * t)
 
 
-@njit(cache=True)
+@jit
 def brine_conductivity_scalar(temperature):
     """Brine conductivity of Yen et al. (1991) [W m-1 K-1] at ``temperature`` [degC].
 
@@ -36,7 +36,7 @@ def brine_conductivity_scalar(temperature):
     return 0.4184 * (1.25 + 0.030 * t + 0.00014 * t * t)
 
 
-@njit(cache=True)
+@jit
 def conductivity_scalar(model, temperature, liquid_fraction, bulk_salinity, constant_value):
     """Bulk thermal conductivity of sea ice [W m-1 K-1].
 
@@ -129,3 +129,11 @@ def snow_conductivity_sturm1997(density):
     """
     r = np.asarray(density, dtype=float) / 1000.0
     return np.where(r < 0.156, 0.023 + 0.234 * r, 0.138 - 1.01 * r + 3.233 * r * r)
+
+
+def snow_conductivity_of(model: str, constant: float, density: float) -> float:
+    """Snow conductivity [W m-1 K-1] of a ``[snow]`` choice: ``constant`` [W m-1 K-1], or
+    ``sturm1997`` from ``density`` [kg m-3] (:func:`snow_conductivity_sturm1997`)."""
+    if model == "sturm1997":
+        return float(snow_conductivity_sturm1997(density))
+    return float(constant)

@@ -11,8 +11,8 @@ with bulk turbulent fluxes :math:`F_{sens} = \rho_a c_{pa} C_H U (T_a - T_s)` an
 from air temperature and cloud fraction after Koenig-Langlo & Augstein (1994, Meteorol. Z.
 3, 343): :math:`F_{lw}^{\downarrow} = (0.765 + 0.22 N^3)\sigma T_a^4` (from memory; the
 best of five schemes over sea ice in polar night in Makshtas et al. 1999).  The surface
-temperature solves the balance; above the melting point it is held there (the excess is
-melt energy, reported but not yet used to melt the surface).  The fraction ``i0`` of the
+temperature solves the balance; above the melting point it is held there and the excess is
+melt energy, which melts the snow and then the ice surface (:mod:`icecolumn.kernel.top`).  The fraction ``i0`` of the
 absorbed shortwave penetrates and is deposited in the top ice layer.
 
 Constants (from memory unless stated): sigma = 5.670374e-8 W m-2 K-4 (CODATA), air density
@@ -31,7 +31,7 @@ absorbed shortwave stays in the water.
 from __future__ import annotations
 
 import numpy as np
-from numba import njit
+from ._jit import jit
 
 STEFAN_BOLTZMANN = 5.670374e-8  # W m-2 K-4
 KELVIN = 273.15  # K
@@ -45,12 +45,15 @@ ALBEDO_SNOW = 0.85
 ALBEDO_ICE = 0.65
 ALBEDO_MELT = 0.40
 PENETRATION_ICE = 0.17
+#: Snow at least this thick covers the ice (snow albedo, no penetrating shortwave); thinner snow
+#: hands the surface over to the ice smoothly (model choice, no source). [m]
+SNOW_COVER_THICKNESS = 0.01
 ALBEDO_WATER = 0.06
 EMISSIVITY_WATER = 0.97
 VAPORISATION_HEAT = 2.501e6  # J kg-1
 
 
-@njit(cache=True)
+@jit
 def saturation_vapour_pressure_scalar(temperature, over_ice):
     """Saturation vapour pressure [hPa] at ``temperature`` [degC] over water or ice.
 
@@ -63,28 +66,28 @@ def saturation_vapour_pressure_scalar(temperature, over_ice):
     return 6.1094 * np.exp(17.625 * temperature / (temperature + 243.04))
 
 
-@njit(cache=True)
+@jit
 def specific_humidity_scalar(vapour_pressure):
     """Specific humidity [kg kg-1] from vapour pressure [hPa] at the standard surface pressure."""
     return 0.622 * vapour_pressure / (SURFACE_PRESSURE - 0.378 * vapour_pressure)
 
 
-@njit(cache=True)
+@jit
 def longwave_down_scalar(air_temperature, cloud_fraction):
     """Incoming longwave [W m-2], Koenig-Langlo & Augstein (1994), air T [degC], cloud [1]."""
     ta = air_temperature + KELVIN
     return (0.765 + 0.22 * cloud_fraction ** 3) * STEFAN_BOLTZMANN * ta ** 4
 
 
-@njit(cache=True)
+@jit
 def albedo_scalar(snow_thickness, surface_temperature, melting_point):
     """Surface albedo [1]: snow (>= 1 cm) or bare ice; melting surfaces darker."""
     if surface_temperature >= melting_point - 1e-6:
         return ALBEDO_MELT
-    return ALBEDO_SNOW if snow_thickness >= 0.01 else ALBEDO_ICE
+    return ALBEDO_SNOW if snow_thickness >= SNOW_COVER_THICKNESS else ALBEDO_ICE
 
 
-@njit(cache=True)
+@jit
 def net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, albedo, i0):
     """Net atmospheric flux into the surface [W m-2] and its derivative d/dT_s [W m-2 K-1].
 
@@ -107,7 +110,7 @@ def net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, albedo, i0):
     return f, df
 
 
-@njit(cache=True)
+@jit
 def net_water_flux_scalar(tw, ta, sw, lw, wind, rh):
     """Net atmospheric flux into an open water surface at ``tw`` [degC] [W m-2] (positive down).
 

@@ -299,17 +299,18 @@ def test_positivity_one_step(state):
     pars = np.ascontiguousarray(parameter_vector(cfg)[None, :])
     ft = np.array([0.0, 7200.0])
     forc = np.full((1, K.NFORCING, 2), np.nan)  # only air temperature given
-    forc[0, K.F_AIR] = -20.0
+    forc[0, K.F.AIR] = -20.0
     status = np.zeros(1, np.int64)
     counters = np.zeros((1, 3), np.int64)
     K.advance(ys, 0.0, 3600.0, n, pars, ft, forc, status, counters)
     assert status[0] == 0
     y1 = ys[0]
-    h1 = y1[2 * n]
+    v0, v1 = K.view(y, n), K.view(y1, n)
+    h1 = float(v1.thickness)
     assert h1 > 0
     dz1 = h1 / n
-    s1 = 1000.0 * y1[n:2 * n] / (pr.ice_density * dz1)
-    _, phi1, _ = invert_enthalpy(y1[:n] / dz1, s1, pr.ice_density, pr.ice_specific_heat,
+    s1 = 1000.0 * v1.salt_content / (pr.ice_density * dz1)
+    _, phi1, _ = invert_enthalpy(v1.enthalpy_content / dz1, s1, pr.ice_density, pr.ice_specific_heat,
                                  pr.brine_specific_heat, pr.latent_heat)
     assert np.all(s1 >= 0.0)
     if np.all(np.diff(temps) >= 0.0):
@@ -318,16 +319,13 @@ def test_positivity_one_step(state):
         # (hypothesis example h = 1, T = -2 above a -3 C bottom layer, S = 0 ... 34, 34 -> 36.3 g/kg)
         assert np.all(s1 <= SW * (1 + 1e-12))
     assert np.all(phi1 >= 0.0) and np.all(phi1 <= 1.0)
-    b = y1[2 * n + 1:]
-    de = y1[:n].sum() - y[:n].sum()
-    ein = b[K.B_E_SURF] + b[K.B_E_OCEAN] + b[K.B_E_WATER] + b[K.B_E_DRAIN]
-    escale = abs(b[K.B_E_SURF]) + abs(b[K.B_E_OCEAN]) + abs(b[K.B_E_WATER]) + abs(b[K.B_E_DRAIN])
+    de = v1.enthalpy_content.sum() - v0.enthalpy_content.sum()
+    e_terms = [float(v1.slot(k)) for k in ("energy_surface", "energy_ocean", "energy_water", "energy_drainage")]
     # plus round-off of summing the layer contents (1e-14 of their absolute sum)
-    assert abs(de - ein) <= 1e-9 * escale + 1e-14 * np.abs(y1[:n]).sum()
-    dm = y1[n:2 * n].sum() - y[n:2 * n].sum()
-    sin = b[K.B_S_ENTRAIN] - b[K.B_S_MELT] - b[K.B_S_DRAIN]
-    sscale = abs(b[K.B_S_ENTRAIN]) + abs(b[K.B_S_MELT]) + abs(b[K.B_S_DRAIN])
-    assert abs(dm - sin) <= 1e-9 * sscale + 1e-14 * np.abs(y1[n:2 * n]).sum()
+    assert abs(de - sum(e_terms)) <= 1e-9 * sum(map(abs, e_terms)) + 1e-14 * np.abs(v1.enthalpy_content).sum()
+    dm = v1.salt_content.sum() - v0.salt_content.sum()
+    s_terms = [float(v1.slot("salt_entrained")), -float(v1.slot("salt_melt")), -float(v1.slot("salt_drainage"))]
+    assert abs(dm - sum(s_terms)) <= 1e-9 * sum(map(abs, s_terms)) + 1e-14 * np.abs(v1.salt_content).sum()
 
 
 # --------------------------------------------------------------------------- step size

@@ -141,8 +141,9 @@ def test_isothermal_ice_melts_at_ocean_heat_flux_rate():
     cfg = fresh_config(h0, heat_flux=fw)
     n = cfg.grid.layers
     y = np.zeros(K.state_size(n))
-    y[:n] = -RHO * LAT * h0 / n
-    y[2 * n] = h0
+    v = K.view(y, n)
+    v.enthalpy_content[:] = -RHO * LAT * h0 / n
+    v.thickness[...] = h0
     ds = ic.run(constant_forcing(days, 0.0), cfg, initial_state_vector=y)
     assert float(ds["liquid_fraction"].isel(time=0).max()) == 0.0
     dh = h0 - float(ds["ice_thickness"].values[-1])

@@ -15,6 +15,8 @@ import pytest
 
 import icecolumn as ic
 from icecolumn import kernel as K
+from icecolumn.kernel.openwater import FREEZING_TOLERANCE
+from icecolumn.ocean import ML_EXCHANGE_VELOCITY
 from icecolumn.constants import SEAWATER_DENSITY
 from icecolumn.errors import InputError
 from icecolumn.forcing import forcing_from_arrays, repeat_forcing
@@ -94,22 +96,23 @@ def test_year_sample_forms_snow_ice(year_run):
 def test_year_with_mixed_layer_closes_ice_and_ocean_budgets(two_years_ml):
     ds = two_years_ml
     check_budgets(ds)
-    st = ds.layer_state.transpose("time", "state").values
-    n = ds.sizes["layer"]
-    b = st[:, 2 * n + 1:]
+    st = K.view(ds.layer_state.transpose("time", "state").values, ds.sizes["layer"])
     cfg = ic.load_config(YEAR_CONFIG)
     rho, rho_s = cfg.properties.ice_density, cfg.snow.density
     # energy of ice + mixed layer: only the atmosphere, the deep ocean and the snow's enthalpy enter
-    total = ds.enthalpy_content.values + b[:, K.B_ML_E]
-    inputs = (b[:, K.B_E_SURF] + b[:, K.B_E_ML_SURF] + b[:, K.B_E_ML_DEEP] + b[:, K.B_E_FLOOD_SNOW])
-    scale = np.abs(b[:, K.B_E_SURF]).max() + np.abs(b[:, K.B_E_ML_SURF]).max() + np.abs(b[:, K.B_ML_E]).max()
+    slot = st.slot
+    total = ds.enthalpy_content.values + slot("mixed_layer_enthalpy")
+    inputs = (slot("energy_surface") + slot("energy_mixed_layer_surface") + slot("energy_mixed_layer_deep")
+              + slot("energy_flooding_snow"))
+    scale = (np.abs(slot("energy_surface")).max() + np.abs(slot("energy_mixed_layer_surface")).max()
+             + np.abs(slot("mixed_layer_enthalpy")).max())
     assert np.max(np.abs(total - total[0] - inputs)) <= 1e-12 * scale
     # salt: only the restoring exchange with the deep ocean
-    salt = ds.salt_content.values + b[:, K.B_ML_S]
-    assert np.max(np.abs(salt - salt[0] - b[:, K.B_S_ML_DEEP])) <= 1e-12 * salt[0]
+    salt = ds.salt_content.values + slot("mixed_layer_salt")
+    assert np.max(np.abs(salt - salt[0] - slot("salt_mixed_layer_deep"))) <= 1e-12 * salt[0]
     # mass: ice + snow + mixed layer change only by snowfall
-    mass = rho * ds.ice_thickness.values + rho_s * b[:, K.B_SNOW] + b[:, K.B_ML_W]
-    assert np.max(np.abs(mass - mass[0] - b[:, K.B_SNOWFALL])) <= 1e-12 * mass[0]
+    mass = rho * ds.ice_thickness.values + rho_s * slot("snow_thickness") + slot("mixed_layer_mass")
+    assert np.max(np.abs(mass - mass[0] - slot("snowfall"))) <= 1e-12 * mass[0]
     # brine rejection makes the mixed layer saltier in winter, melt water fresher in summer
     s_ml = ds.mixed_layer_salinity.values
     assert s_ml.max() > cfg.ocean.salinity + 0.5 and s_ml.min() < cfg.ocean.salinity
@@ -201,10 +204,10 @@ def test_ocean_temperature_forcing_decides_refreeze():
     ds = ic.run(forcing, cfg)
     to = t_ocean(t)
     ice = ds.sea_ice_area_fraction.values
-    warm = to > tf + K.FREEZING_TOLERANCE
+    warm = to > tf + FREEZING_TOLERANCE
     assert np.all(ice[warm] == 0.0)  # the ocean above its freezing point keeps the water open
     first = int(np.flatnonzero(ice == 1.0)[0])
-    assert to[first - 1] <= tf + K.FREEZING_TOLERANCE + 1e-12
+    assert to[first - 1] <= tf + FREEZING_TOLERANCE + 1e-12
     assert float(ds.ice_thickness.values[-1]) > cfg.ocean.new_ice_thickness
     assert np.all(np.isnan(ds.temperature.values[ice == 0.0]))
     check_budgets(ds)
@@ -361,7 +364,7 @@ def test_mixed_layer_under_ice_settles_at_the_exchange_balance():
     t = np.datetime64("2027-01-01", "ns") + np.arange(40 * 24 + 1) * np.timedelta64(1, "h")
     ds = ic.run(forcing_from_arrays(t, np.full(t.size, -20.0)), cfg)  # invented test forcing
     excess = ds.mixed_layer_temperature.values - ds.mixed_layer_freezing_temperature.values
-    expected = 10.0 / (SEAWATER_DENSITY * cfg.properties.brine_specific_heat * K.ML_EXCHANGE_VELOCITY)
+    expected = 10.0 / (SEAWATER_DENSITY * cfg.properties.brine_specific_heat * ML_EXCHANGE_VELOCITY)
     assert expected == pytest.approx(0.0406, abs=1e-4)
     assert excess[-1] == pytest.approx(expected, rel=0.02)
     # and the ice base receives it: the interval-mean ocean heat flux tends to the deep flux

@@ -1,0 +1,33 @@
+"""The compiled column kernel: layout, processes, right-hand side, Newton stages, TR-BDF2 stepper.
+
+=====================  ======================================================================
+module                 job
+=====================  ======================================================================
+``layout``             state / parameter / forcing indices from name tuples; ``StateView``;
+                       integer codes and status messages
+``params``             the parameter row of a member from its configuration
+``inputs``             forcing interpolation and its defaults
+``top``                upper boundary: surface scheme, snow slab, surface melt, snow mass
+``snowice``            flooding of the snow base (snow-ice)
+``transport``          conduction between layers and the motion of the grid
+``gravity_drainage``   brine channels and the return flow
+``base``               ice-ocean interface: basal velocity, water crossing the interface
+``flushing``           melt water percolating through permeable ice
+``mixedlayer``         slab ocean mixed layer under the ice
+``openwater``          melt-out, open water, new ice
+``tendency``           the right-hand side and Jacobian assembled from the processes
+``linalg``             block-tridiagonal solve
+``newton``             Newton solve of one implicit stage
+``stepper``            TR-BDF2 with per-member step control
+``workspace``          scratch arrays in one named tuple
+``driver``             ``advance``, ``advance_parallel``, ``diagnose``
+=====================  ======================================================================
+"""
+from .driver import advance, advance_parallel, diagnose
+from .layout import (B, F, FORCING_NAMES, NFORCING, NPAR, NSLOT, P, SLOT_INDEX, SLOTS, STATUS_MESSAGES,
+                     SURFACE_CODES, StateView, state_size, view)
+from .params import parameter_row
+
+__all__ = ["advance", "advance_parallel", "diagnose", "B", "F", "P", "FORCING_NAMES", "NFORCING", "NPAR",
+           "NSLOT", "SLOTS", "SLOT_INDEX", "STATUS_MESSAGES", "SURFACE_CODES", "StateView", "state_size",
+           "view", "parameter_row"]

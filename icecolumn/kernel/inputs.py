@@ -1,0 +1,87 @@
+"""Forcing of one member at a time: linear interpolation of the forcing rows and their defaults."""
+from __future__ import annotations
+
+import numpy as np
+
+from .._jit import jit
+from ..ocean import exchange_heat_flux_scalar
+from ..phase import liquidus_temperature_scalar
+from ..surface import longwave_down_scalar
+from .layout import NFORCING, F, P
+
+#: Cloud fraction used for the incoming longwave when the forcing has neither longwave_down nor
+#: cloud_fraction (a mid value; common practice, no source). [1]
+DEFAULT_CLOUD_FRACTION = 0.5
+#: Relative humidity with respect to water when the forcing has none (common practice, no
+#: source). [%]
+DEFAULT_RELATIVE_HUMIDITY = 90.0
+
+
+@jit
+def interp(ft, fv, t, i0):
+    """Linear interpolation of (ft, fv) at t; i0 is a search hint. Returns (value, index)."""
+    n = ft.size
+    i = i0
+    if i < 0:
+        i = 0
+    if i > n - 2:
+        i = n - 2
+    while i > 0 and ft[i] > t:
+        i -= 1
+    while i < n - 2 and ft[i + 1] <= t:
+        i += 1
+    t0 = ft[i]
+    t1 = ft[i + 1]
+    a = (t - t0) / (t1 - t0)
+    if a < 0.0:
+        a = 0.0
+    if a > 1.0:
+        a = 1.0
+    return fv[i] + a * (fv[i + 1] - fv[i]), i
+
+
+@jit
+def forcing_at(ft, forc, t, i0, par, out):
+    """All forcing rows at time t into ``out``; returns the search hint for the next call.
+
+    The ocean heat flux defaults to the ``[ocean] heat_flux`` parameter; without a mixed layer
+    and with an ``ocean_temperature`` forcing it is the turbulent flux of
+    :func:`icecolumn.ocean.exchange_heat_flux_scalar` of the water's excess over its freezing
+    point instead.
+    """
+    i = i0
+    for v in range(NFORCING):
+        if forc[v, 0] != forc[v, 0]:  # variable absent for this member (whole row NaN)
+            out[v] = np.nan
+            continue
+        out[v], i = interp(ft, forc[v], t, i0)
+    if out[F.QOCEAN] != out[F.QOCEAN]:
+        to = out[F.TOCEAN]
+        if to == to and par[P.MLD] <= 0.0:
+            dtw = to - liquidus_temperature_scalar(par[P.SW])
+            out[F.QOCEAN] = exchange_heat_flux_scalar(dtw if dtw > 0.0 else 0.0, par[P.CL])
+        else:
+            out[F.QOCEAN] = par[P.FW]
+    return i
+
+
+@jit
+def atmosphere(fv, par):
+    """Shortwave and longwave down [W m-2], wind [m s-1] and relative humidity [%] of the forcing,
+    with the defaults of the energy balance where the forcing has none: no shortwave, longwave
+    from air temperature and cloud fraction (DEFAULT_CLOUD_FRACTION if absent), wind P.WIND,
+    DEFAULT_RELATIVE_HUMIDITY."""
+    sw = fv[F.SW]
+    if sw != sw:
+        sw = 0.0
+    lw = fv[F.LW]
+    if lw != lw:
+        cloud = fv[F.CLOUD]
+        lw = longwave_down_scalar(fv[F.AIR], cloud if cloud == cloud else DEFAULT_CLOUD_FRACTION)
+    wind = fv[F.WIND]
+    if wind != wind:
+        wind = par[P.WIND]
+    rh = fv[F.RH]
+    if rh != rh:
+        rh = DEFAULT_RELATIVE_HUMIDITY
+    return sw, lw, wind, rh

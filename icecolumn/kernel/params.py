@@ -1,0 +1,73 @@
+"""The kernel's parameter row of one member, built from a :class:`~icecolumn.config.Config`.
+
+This is the only place that maps configuration settings (and the physics modules' defaults) to
+parameter indices; physics modules never see kernel indices.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ..drainage import BRINE_DENSITY_SLOPE, BRINE_THERMAL_DIFFUSIVITY, BRINE_VISCOSITY, PERCOLATION_WIDTH, \
+    PERMEABILITY_LAWS, scheme_settings
+from ..properties import CONDUCTIVITY_MODELS, snow_conductivity_of
+from ..timeutil import parse_duration
+from .layout import DRAINAGE_CODES, NPAR, SURFACE_CODES, P
+
+#: Wind speed the energy balance uses when the forcing has no wind_speed (a moderate polar wind;
+#: common practice, no source). [m s-1]
+DEFAULT_WIND_SPEED = 5.0
+#: Melting point of the upper surface (fresh ice / snow at atmospheric pressure). [degC]
+SURFACE_MELTING_POINT = 0.0
+
+
+def parameter_row(cfg, surface_scheme: str | None = None) -> np.ndarray:
+    """Kernel parameter row (:data:`~icecolumn.kernel.layout.P` indices) for one member.
+
+    Parameters
+    ----------
+    cfg : Config
+        The member's configuration.
+    surface_scheme : str, optional
+        The resolved surface scheme (``auto`` resolved against the forcing by
+        :func:`icecolumn.model.resolve_surface_scheme`); default: the configured one, with
+        ``auto`` taken as ``linear``.
+    """
+    p = np.zeros(NPAR)
+    pr = cfg.properties
+    p[P.RHO] = pr.ice_density
+    p[P.CS] = pr.ice_specific_heat
+    p[P.CL] = pr.brine_specific_heat
+    p[P.L] = pr.latent_heat
+    p[P.KMODEL] = CONDUCTIVITY_MODELS[pr.conductivity_model]
+    p[P.KICE] = pr.ice_conductivity
+    p[P.SW] = cfg.ocean.salinity
+    p[P.FW] = cfg.ocean.heat_flux
+    p[P.HTC] = cfg.surface.heat_transfer_coefficient
+    p[P.KSNOW] = snow_conductivity_of(cfg.snow.conductivity_model, cfg.snow.conductivity, cfg.snow.density)
+    p[P.RHOSNOW] = cfg.snow.density
+    scheme = surface_scheme if surface_scheme is not None else cfg.surface.scheme
+    p[P.SURF] = SURFACE_CODES.get(scheme, SURFACE_CODES["linear"])
+    p[P.RTOL] = cfg.solver.rtol
+    p[P.MAXDT] = parse_duration(cfg.solver.max_step)
+    p[P.INITDT] = parse_duration(cfg.solver.initial_step)
+    p[P.DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
+    p[P.TMELT] = SURFACE_MELTING_POINT
+    p[P.WIND] = DEFAULT_WIND_SPEED
+    p[P.MLD] = cfg.ocean.mixed_layer_depth
+    p[P.H0] = cfg.ocean.new_ice_thickness
+    p[P.MLTAU] = cfg.ocean.salinity_restoring_time * 86400.0
+    p[P.SREF] = cfg.ocean.salinity
+    p[P.FLOODTAU] = parse_duration(cfg.snow.flooding_timescale) if cfg.snow.flooding == "hydrostatic" else 0.0
+    d = scheme_settings(cfg)
+    p[P.DALPHA] = d["flux_coefficient"]
+    p[P.DRAC] = d["critical_rayleigh"]
+    p[P.DPHIC] = d["percolation_threshold"]
+    p[P.DPHIW] = PERCOLATION_WIDTH
+    p[P.DPERM] = PERMEABILITY_LAWS[d["permeability"]]
+    p[P.DAVG] = d["averaging"]
+    p[P.DKAPPA] = BRINE_THERMAL_DIFFUSIVITY
+    p[P.DMU] = BRINE_VISCOSITY
+    p[P.DRAMP] = d["onset_smoothing"]
+    p[P.DBETA] = BRINE_DENSITY_SLOPE
+    p[P.FLUSH] = cfg.drainage.flushing_fraction
+    return p

@@ -1,0 +1,182 @@
+r"""TR-BDF2 time stepping of one member, with per-member step control.
+
+TR-BDF2 (Bank et al. 1985; Hosea & Shampine 1996, Appl. Numer. Math. 20, 21-37) as a stiffly
+accurate, L-stable ESDIRK method with an embedded first-order error estimate.  Each member has
+its own step and error norm, so its result never depends on the batch it is in.  The stepper
+uses three things of the problem: the stage rates (:func:`.tendency.stage_rates`), the implicit
+stage solve (:func:`.newton.stage_solve`) and the error norm (:func:`.tendency.error_norm`).
+Each accepted step is the explicit flux-form combination of the converged stages, which keeps
+the linear invariants (energy, salt, mass budgets) exact whatever the Newton tolerance.
+
+Around a step the cover's events act (:mod:`.openwater`): open water is stepped as a 0-d budget
+until new ice forms; ice that melts below ``H_OUT`` melts out.  Quantities held over a step: the
+surface melt rate and the snow-ice formation rate (taken at the step's start), the mixed layer's
+salinity (seen by the ice) and its heat flux into the ice.  The proposed step size is kept in
+the state (slot ``DT``) and the first guesses of the enthalpy inversion are reset at every call
+(every output time), so the state written to the output file is the integrator's whole memory
+(restart is bitwise).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from .._jit import jit
+from .inputs import forcing_at
+from .layout import B, F, P, STATUS_OK, STATUS_UNDERFLOW
+from .mixedlayer import heat_to_ice, mixed_layer_state
+from .newton import stage_solve
+from .openwater import H_OUT, OPEN_WATER_STEP, form_new_ice, melt_out, new_ice_heat, open_water_step
+from .snowice import flooding_rate
+from .tendency import error_norm, stage_rates
+from .workspace import new_workspace
+
+# TR-BDF2 coefficients
+_GAMMA = 2.0 - np.sqrt(2.0)
+_D = _GAMMA / 2.0
+_W = np.sqrt(2.0) / 4.0
+_B1 = _W
+_B2 = _W
+_B3 = _D
+_E1 = _W - (1.0 - _W) / 3.0
+_E2 = _W - (3.0 * _W + 1.0) / 3.0
+_E3 = _D - _D / 3.0
+
+#: Largest factor by which an accepted step may grow the next one.
+GROWTH_MAX = 2.0
+#: Newton iterations allowed per stage.
+NEWTON_MAXIT = 10
+#: Smallest step [s]; below it the member fails (STATUS_UNDERFLOW).
+DT_MIN = 1e-4
+
+
+@jit
+def step_member(y, t0, t1, n, par_in, ft, forc, counters):
+    """Advance one member's state from t0 to t1 [s] in place. Returns a status code.
+
+    ``counters`` accumulates accepted steps [0], rejected steps [1] and Newton iterations [2]
+    (all stages, rejected steps included).
+    """
+    ny = y.size
+    nb = 2 * n + 1
+    par = par_in.copy()  # the ocean salinity follows the mixed layer, step by step
+    mixed = par[P.MLD] > 0.0
+    ws = new_workspace(n, ny)
+    f1 = ws.f1
+    f2 = ws.f2
+    f3 = ws.f3
+    y2 = ws.y2
+    y3 = ws.y3
+    base = ws.base
+    fv1 = ws.fv1
+    fv2 = ws.fv2
+    fv3 = ws.fv3
+    t = t0
+    dt = y[nb + B.DT] if y[nb + B.DT] > 0.0 else par[P.INITDT]
+    maxdt = par[P.MAXDT]
+    idx = 0
+    proposed = dt
+    while t < t1:
+        if mixed:
+            _tw, s_ml, _tf = mixed_layer_state(y, n, par)
+            par[P.SW] = s_ml
+        if not (y[2 * n] > 0.0):
+            # open water
+            dto = OPEN_WATER_STEP if OPEN_WATER_STEP < maxdt else maxdt
+            last = t + dto >= t1 - 1e-9 * (1.0 + abs(t1))
+            if last:
+                dto = t1 - t
+            idx = open_water_step(y, t, dto, n, par, ft, forc, idx, fv1, f1, f2, ws.ytmp)
+            counters[0] += 1
+            t = t1 if last else t + dto
+            if y[nb + B.FRAZIL] <= -new_ice_heat(par):
+                form_new_ice(y, n, par)
+                ws.temp[:] = np.nan
+                dt = par[P.INITDT]
+                proposed = dt
+            continue
+        if dt > maxdt:
+            dt = maxdt
+        last = False
+        proposed = dt
+        if t + dt >= t1 - 1e-9 * (1.0 + abs(t1)):
+            dt = t1 - t
+            last = True
+        if dt < DT_MIN:
+            return STATUS_UNDERFLOW
+        # forcing at the three stage times
+        idx = forcing_at(ft, forc, t, idx, par, fv1)
+        i2 = forcing_at(ft, forc, t + _GAMMA * dt, idx, par, fv2)
+        forcing_at(ft, forc, t + dt, i2, par, fv3)
+        if mixed:
+            # heat from the mixed layer to the ice base, held over the step
+            fw1 = heat_to_ice(y, n, par)
+            fw2 = fw1
+            fw3 = fw1
+        else:
+            fw1 = fv1[F.QOCEAN]
+            fw2 = fv2[F.QOCEAN]
+            fw3 = fv3[F.QOCEAN]
+        af = flooding_rate(y, n, par, fv1, dt)
+        # stage 1 (explicit): the surface melt rate of the step's start is kept for its stages
+        a_in = stage_rates(y, n, par, fv1, fw1, f1, ws, -1.0, af)
+        # stage 2
+        for i in range(ny):
+            base[i] = y[i] + dt * _D * f1[i]
+            y2[i] = y[i] + dt * _GAMMA * f1[i]
+        if not (y2[2 * n] > 0.5 * y[2 * n]):
+            y2[2 * n] = y[2 * n]
+        ok, nit = stage_solve(y2, base, _D * dt, n, par, fv2, fw2, f2, ws, NEWTON_MAXIT, a_in, af)
+        counters[2] += nit
+        if ok:
+            stage_rates(y2, n, par, fv2, fw2, f2, ws, a_in, af)
+            for i in range(ny):
+                base[i] = y[i] + dt * (_W * f1[i] + _W * f2[i])
+                y3[i] = y2[i] + (1.0 - _GAMMA) / _GAMMA * (y2[i] - y[i])
+            if not (y3[2 * n] > 0.5 * y[2 * n]):
+                y3[2 * n] = y2[2 * n]
+            ok, nit = stage_solve(y3, base, _D * dt, n, par, fv3, fw3, f3, ws, NEWTON_MAXIT, a_in, af)
+            counters[2] += nit
+        if not ok:
+            dt *= 0.25
+            counters[1] += 1
+            continue
+        stage_rates(y3, n, par, fv3, fw3, f3, ws, a_in, af)
+        err = ws.err
+        for i in range(ny):
+            err[i] = dt * (_E1 * f1[i] + _E2 * f2[i] + _E3 * f3[i])
+        en = error_norm(err, y, n, par)
+        if not (en == en):
+            en = 1e10
+        if en > 1.0:
+            fac = 0.9 * en ** (-1.0 / 3.0)
+            if fac < 0.2:
+                fac = 0.2
+            dt *= fac
+            counters[1] += 1
+            continue
+        # accept: explicit flux-form update from the converged stages (conservative)
+        for i in range(ny):
+            y[i] = y[i] + dt * (_B1 * f1[i] + _B2 * f2[i] + _B3 * f3[i])
+        counters[0] += 1
+        t = t1 if last else t + dt
+        if y[2 * n] < H_OUT and f3[2 * n] < 0.0:
+            melt_out(y, n, par)
+            ws.temp[:] = np.nan
+            dt = par[P.INITDT]
+            proposed = dt
+            continue
+        if en < 1e-10:
+            fac = GROWTH_MAX
+        else:
+            fac = 0.9 * en ** (-1.0 / 3.0)
+            if fac > GROWTH_MAX:
+                fac = GROWTH_MAX
+            if fac < 0.2:
+                fac = 0.2
+        dt *= fac
+        if last and dt < proposed:
+            dt = proposed  # a step shortened to end on t1 does not shrink the next interval's first step
+    # the step size is part of the state, so a run continued from its output (restart) goes on
+    # exactly as the run done in one go
+    y[nb + B.DT] = dt if y[2 * n] > 0.0 else 0.0
+    return STATUS_OK

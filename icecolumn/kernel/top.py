@@ -1,0 +1,184 @@
+"""Upper boundary: conduction from the surface scheme through the snow, surface melt, snow mass.
+
+Face 0 of the column takes the conductive flux ``F_0`` of the surface scheme (prescribed
+surface temperature, linear air-to-surface transfer, or the energy balance of
+:mod:`icecolumn.surface`) through an optional snow slab of conductivity ``k_s`` and the upper
+half of the top layer.  A surface held at its melting point melts: the melt energy goes to the
+snow first (handed smoothly to the ice while the last :data:`~icecolumn.surface.SNOW_COVER_THICKNESS`
+of snow melts), then moves the top interface down at ``a = melt energy / (H_water - H_1)`` with
+melt water at 0 degC (H = 0) carrying the top layer's salt away.
+"""
+from __future__ import annotations
+
+from .._jit import jit
+from ..surface import PENETRATION_ICE, SNOW_COVER_THICKNESS, albedo_scalar, net_surface_flux_scalar
+from .inputs import atmosphere
+from .layout import B, F, P
+
+#: Smallest enthalpy jump at a moving boundary, as a fraction of rho L (keeps the interface
+#: velocity finite when the boundary layer is almost liquid; numerical safeguard). [1]
+DENOM_MIN = 0.02
+#: Thickness at which melting is throttled to zero [m] (numerical safeguard).
+H_MIN = 0.005
+
+
+@jit
+def snow_depth(fv, y, n):
+    """Snow thickness [m]: the measured depth of the forcing, else the prognostic snow."""
+    d = fv[F.SNOWDEPTH]
+    if d == d:
+        return d
+    d = y[2 * n + 1 + B.SNOW]
+    return d if d > 0.0 else 0.0
+
+
+@jit
+def surface_flux(t0, k0, dz, fv, par, hs):
+    """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature and
+    the melt energy flux the capped surface could not take [W m-2].
+
+    The flux includes the shortwave that penetrates the surface (energy balance scheme).
+    """
+    rs = hs / par[P.KSNOW] if hs > 0.0 else 0.0
+    rc = 0.5 * dz / k0 + rs  # resistance surface -> top-layer centre
+    tm = par[P.TMELT]
+    scheme = int(par[P.SURF])
+    ta = fv[F.AIR]
+    if scheme == 1:
+        tsp = fv[F.TSURF]
+        ts = tsp if tsp < tm else tm
+        return (ts - t0) / rc, -1.0 / rc, ts, 0.0
+    if scheme == 0:
+        hc = par[P.HTC]
+        rt = 1.0 / hc + rc
+        f = (ta - t0) / rt
+        ts = ta - f / hc
+        if ts > tm:
+            f_air = hc * (ta - tm)
+            f = (tm - t0) / rc
+            return f, -1.0 / rc, tm, f_air - f
+        return f, -1.0 / rt, ts, 0.0
+    # energy balance: solve F_net(T_s) = (T_s - T0) / rc for T_s
+    sw, lw, wind, rh = atmosphere(fv, par)
+    i0 = 0.0 if hs >= SNOW_COVER_THICKNESS else PENETRATION_ICE
+    ts = t0 if t0 < tm else tm
+    alb = albedo_scalar(hs, ts, tm)
+    for _ in range(30):
+        fn, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
+        res = fn - (ts - t0) / rc
+        dres = dfn - 1.0 / rc
+        step = -res / dres
+        if step > 20.0:
+            step = 20.0
+        if step < -20.0:
+            step = -20.0
+        ts += step
+        if abs(step) < 1e-10:
+            break
+    pen = i0 * (1.0 - alb) * sw
+    if ts >= tm:
+        alb = albedo_scalar(hs, tm, tm)
+        pen = i0 * (1.0 - alb) * sw
+        fn, _ = net_surface_flux_scalar(tm, ta, sw, lw, wind, rh, alb, i0)
+        f = (tm - t0) / rc
+        return f + pen, -1.0 / rc, tm, fn - f
+    _, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
+    dts = (-1.0 / rc) / (dfn - 1.0 / rc)  # d T_s / d T0 (implicit function)
+    return (ts - t0) / rc + pen, (dts - 1.0) / rc, ts, 0.0
+
+
+@jit
+def surface_melt_rate(y, n, par, melt_energy):
+    """Surface melt velocity [m s-1] from the melt energy flux [W m-2] of a surface held at its
+    melting point: the top interface balance a (H_water - H_1) = melt energy, with melt water at
+    0 degC (H_water = 0).  Throttled to zero at the minimum thickness."""
+    if melt_energy <= 0.0:
+        return 0.0
+    h = y[2 * n]
+    dz = h / n
+    jump = -y[0] / dz
+    jmin = DENOM_MIN * par[P.RHO] * par[P.L]
+    if jump < jmin:
+        jump = jmin
+    a = melt_energy / jump
+    x = (h - H_MIN) / H_MIN
+    if x < 0.0:
+        x = 0.0
+    if x > 1.0:
+        x = 1.0
+    return a * x
+
+
+@jit
+def top_state(y, n, par, fv, temp0, k0, a_in):
+    """Fluxes of the upper boundary.
+
+    Returns ``(f0, df0, ts, melt, fsnow, a, used)``: conduction into the top layer [W m-2] and
+    its derivative w.r.t. the top temperature, the surface temperature [degC], the melt energy
+    flux [W m-2], the fraction of it that melts snow, the surface melt rate of the ice [m s-1]
+    (``a_in`` if >= 0, the rate held over a step) and the melt energy used on the ice [W m-2].
+    """
+    h = y[2 * n]
+    dz = h / n
+    hs = snow_depth(fv, y, n)
+    f0, df0, ts, melt = surface_flux(temp0, k0, dz, fv, par, hs)
+    # melt energy goes to the snow first (smoothly handed to the ice as the last cm melts)
+    fsnow = hs / SNOW_COVER_THICKNESS if hs < SNOW_COVER_THICKNESS else 1.0
+    a = surface_melt_rate(y, n, par, (1.0 - fsnow) * melt) if a_in < 0.0 else a_in
+    used = a * (-y[0] / dz)  # melt energy used: melts ice into water at 0 degC (H = 0)
+    return f0, df0, ts, melt, fsnow, a, used
+
+
+@jit
+def add_top_fluxes(f, y, n, f0, used, a):
+    """Face 0: conduction and melt energy in, melt water (H = 0) and its salt out. Returns the
+    salt flux of the melt water [kg m-2 s-1]."""
+    dz = y[2 * n] / n
+    f[0] += f0 + used
+    s_top = a * y[n] / dz
+    f[n] -= s_top
+    return s_top
+
+
+@jit
+def add_top_budgets(f, y, n, par, fv, f0, used, s_top, a, af, fsnow, melt):
+    """Budget slots of the upper boundary and the prognostic snow (snowfall minus snow melt and
+    flooding, ``af`` [m s-1]). Returns the snow melt water flux [kg m-2 s-1]."""
+    nb = 2 * n + 1
+    f[nb + B.E_SURF] = f0 + used
+    f[nb + B.S_SURFMELT] = s_top
+    f[nb + B.H_SURFMELT] = a
+    snowmelt = 0.0
+    if fv[F.SNOWDEPTH] != fv[F.SNOWDEPTH]:  # prognostic snow: snowfall minus snow melt and flooding
+        sf = fv[F.SNOWFALL]
+        sf = sf if sf == sf else 0.0
+        snowmelt = fsnow * melt / par[P.L]
+        f[nb + B.SNOW] = (sf - snowmelt) / par[P.RHOSNOW] - af
+        f[nb + B.SNOWFALL] = sf
+    return snowmelt
+
+
+@jit
+def top_flux_blocks(di, df0, dtde, dtdm):
+    """Jacobian of the surface conduction w.r.t. the top layer's contents."""
+    di[0, 0] += df0 * dtde[0]
+    di[0, 1] += df0 * dtdm[0]
+
+
+@jit
+def top_melt_blocks(di, amelt, dz):
+    """Jacobian of the salt leaving with surface melt water."""
+    di[0, 3] -= amelt / dz
+
+
+@jit
+def add_top_dh_column(col, y, n, f, kc, df0, dtdh, amelt):
+    """d f / d h of the upper boundary at fixed contents (conduction through the top half layer,
+    melt energy and melt-water salt through the layer thickness)."""
+    h = y[2 * n]
+    ih = 1.0 / h
+    idz = n * ih
+    used = amelt * (-y[0] * idz)
+    f0 = f[2 * n + 1 + B.E_SURF] - used
+    col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used * ih
+    col[n] += amelt * y[n] * idz * ih

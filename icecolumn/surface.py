@@ -67,6 +67,23 @@ def saturation_vapour_pressure_scalar(temperature, over_ice):
 
 
 @jit
+def saturation_vapour_pressure_derivative_scalar(temperature, over_ice):
+    """d e_s / d T [hPa K-1] of :func:`saturation_vapour_pressure_scalar` (analytic)."""
+    if over_ice:
+        b = 273.86
+        return saturation_vapour_pressure_scalar(temperature, True) * 22.587 * b / ((temperature + b) ** 2)
+    b = 243.04
+    return saturation_vapour_pressure_scalar(temperature, False) * 17.625 * b / ((temperature + b) ** 2)
+
+
+@jit
+def specific_humidity_derivative_scalar(vapour_pressure):
+    """d q / d e [kg kg-1 hPa-1] of :func:`specific_humidity_scalar` (analytic)."""
+    d = SURFACE_PRESSURE - 0.378 * vapour_pressure
+    return 0.622 * SURFACE_PRESSURE / (d * d)
+
+
+@jit
 def specific_humidity_scalar(vapour_pressure):
     """Specific humidity [kg kg-1] from vapour pressure [hPa] at the standard surface pressure."""
     return 0.622 * vapour_pressure / (SURFACE_PRESSURE - 0.378 * vapour_pressure)
@@ -102,8 +119,7 @@ def net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, albedo, i0):
     qa = specific_humidity_scalar(ea)
     es = saturation_vapour_pressure_scalar(ts, True)
     qs = specific_humidity_scalar(es)
-    h = 0.01
-    dqs = (specific_humidity_scalar(saturation_vapour_pressure_scalar(ts + h, True)) - qs) / h
+    dqs = specific_humidity_derivative_scalar(es) * saturation_vapour_pressure_derivative_scalar(ts, True)
     f = ((1.0 - albedo) * (1.0 - i0) * sw + eps * lw - eps * STEFAN_BOLTZMANN * tk ** 4
          + turb * AIR_SPECIFIC_HEAT * (ta - ts) + turb * SUBLIMATION_HEAT * (qa - qs))
     df = -4.0 * eps * STEFAN_BOLTZMANN * tk ** 3 - turb * AIR_SPECIFIC_HEAT - turb * SUBLIMATION_HEAT * dqs

@@ -90,7 +90,7 @@ def diagnose(ys, n, pars, ft, forc, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra,
             kc[mbr, k] = ws.kc[k]
             sal[mbr, k] = 1000.0 * y[n + k] / (par[P.RHO] * dz)
         hs = snow_depth(fv, y, n)
-        _f, _d, ts, mx = surface_flux(ws.temp[0], ws.kc[0], dz, fv, par, hs)
+        _f, _d, ts, mx, _pen = surface_flux(ws.temp[0], ws.kc[0], dz, fv, par, hs)
         tsurf[mbr] = ts
         melt[mbr] = mx  # melt energy at the surface (snow first, then ice)
         snow[mbr] = hs

@@ -153,3 +153,33 @@ def drainage_blocks(n, dz, par, phi, temp, dtde, dtdm, wflux, di, up):
             up[j, 3] += wj * bsm
             up[j, 0] += wj * rcl * dtde[jb]
             up[j, 1] += wj * rcl * dtdm[jb]
+
+
+@jit
+def brine_content_dh(phi, temp, dtdh, sbr, h, cw):
+    """d(rho S_br / 1000)/dh of one layer at fixed contents (through its temperature in mush;
+    a liquid layer's brine is its bulk salinity, which thins as 1/h)."""
+    if phi >= 1.0:
+        return -cw * sbr / h
+    return cw * brine_salinity_derivative_scalar(temp) * dtdh
+
+
+@jit
+def add_drainage_dh_column(col, n, par, wflux, qsink, temp, phi, sbr, dtdh, h):
+    """d f / d h at fixed contents of the drainage exchange at its current flow (the flow's own
+    dependence on the state is left out, as in :func:`drainage_blocks`)."""
+    rho = par[P.RHO]
+    rcl = rho * par[P.CL]
+    cw = rho / 1000.0
+    for k in range(n):
+        dc = brine_content_dh(phi[k], temp[k], dtdh[k], sbr[k], h, cw)
+        dt = dtdh[k]
+        # return flow: face k+1 (below layer k) carries -W_{k+1} c_{k+1} upward into layer k, face k
+        # carries -W_k c_k out of it: layer k gains W_{k+1} c_{k+1} - W_k c_k (interior faces only)
+        if k >= 1:
+            col[n + k] -= wflux[k] * dc
+            col[k] -= wflux[k] * rcl * dt
+            col[n + k - 1] += wflux[k] * dc
+            col[k - 1] += wflux[k] * rcl * dt
+        col[n + k] -= qsink[k] * dc
+        col[k] -= qsink[k] * rcl * dt

@@ -30,7 +30,7 @@ def stage_solve(y, base, a_dt, n, par, fv, fw, f, ws, maxit, a_in, af):
         h = y[2 * n]
         if not (h > 0.0):
             return False, it
-        _ts, df0, amelt = rhs(y, r, n, par, fv, fw, f, ws, True, a_in, af, True)
+        _ts, df0, amelt, g0 = rhs(y, r, n, par, fv, fw, f, ws, True, a_in, af, True)
         atop = amelt - af
         # residuals (negated, as Newton rhs)
         for i in range(ncell):
@@ -42,7 +42,7 @@ def stage_solve(y, base, a_dt, n, par, fv, fw, f, ws, maxit, a_in, af):
         # border column for h: analytic d f / d h at fixed contents and r (conduction,
         # advection and melt terms through the layer thickness h/n; the small dependence of
         # conductivity and drainage on h is left out, as for the cell blocks)
-        dh_column(y, r, atop, amelt, n, par, f, ws, df0, ftmp)
+        dh_column(y, r, atop, amelt, n, par, g0, ws, df0, ftmp)
         for i in range(ncell):
             rhsv[1, i] = -a_dt * ftmp[i]  # B column (h)
         dr_column(y, r, atop, n, par, ws, col_r)

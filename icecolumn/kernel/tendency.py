@@ -27,8 +27,9 @@ from ..phase import invert_enthalpy_guess_scalar
 from ..properties import conductivity_scalar
 from .base import add_base_budgets, add_base_dh_column, add_base_dr_column, add_base_fluxes, base_blocks, \
     basal_velocity_of_state
-from .flushing import add_flushing
-from .gravity_drainage import add_drainage_sinks, add_return_flow_faces, brine_exchange, drainage_blocks
+from .flushing import add_flushing, add_flushing_dh_column, flushing_blocks
+from .gravity_drainage import add_drainage_dh_column, add_drainage_sinks, add_return_flow_faces, brine_exchange, \
+    drainage_blocks
 from .layout import NSLOT, P
 from .mixedlayer import add_mixed_layer
 from .snowice import add_snow_ice
@@ -76,13 +77,13 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
     into the ice base; with a mixed layer the forcing's ocean heat flux enters the mixed layer
     from below instead.
     Returns the surface temperature, the derivative of the surface flux w.r.t. the top
-    temperature and the surface melt rate.
+    temperature, the surface melt rate and the conductive part of the surface flux.
     """
     if want_cells:
         intensive_state(y, n, par, ws)
     temp = ws.temp
     kc = ws.kc
-    f0, df0, ts, melt, fsnow, a, used = top_state(y, n, par, fv, temp[0], kc[0], a_in)
+    f0, df0, ts, melt, fsnow, a, used, pen = top_state(y, n, par, fv, temp[0], kc[0], a_in)
     anet = a - af
     for i in range(2 * n + 1 + NSLOT):
         f[i] = 0.0
@@ -107,7 +108,7 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
         add_flushing(n, par, a, temp, ws.phi, ws.sbr, f)
     if par[P.MLD] > 0.0:
         add_mixed_layer(f, y, n, par, fv, r, anet, af, sm, s_top, snowmelt)
-    return ts, df0, a
+    return ts, df0, a, f0 - pen
 
 
 @jit
@@ -115,14 +116,15 @@ def stage_rates(y, n, par, fv, fw, f, ws, a_in, af):
     """:func:`rhs` at the basal velocity of the state itself (an explicit or converged stage).
     Returns the surface melt rate."""
     r = basal_velocity_of_state(y, n, par, fw)
-    _ts, _df0, a = rhs(y, r, n, par, fv, fw, f, ws, True, a_in, af, True)
+    _ts, _df0, a, _g0 = rhs(y, r, n, par, fv, fw, f, ws, True, a_in, af, True)
     return a
 
 
 @jit
-def dh_column(y, r, a, amelt, n, par, f, ws, df0, col):
+def dh_column(y, r, a, amelt, n, par, g0, ws, df0, col):
     """d f_cells / d h at fixed layer contents, basal velocity ``r``, net top velocity ``a`` and
-    surface melt rate ``amelt`` (the snow-ice source does not depend on h)."""
+    surface melt rate ``amelt`` (the snow-ice source does not depend on h); ``g0`` and ``df0``
+    the conductive surface flux and its derivative from :func:`rhs`."""
     h = y[2 * n]
     ih = 1.0 / h
     dtdh = ws.sc[0]
@@ -132,8 +134,12 @@ def dh_column(y, r, a, amelt, n, par, f, ws, df0, col):
     gm = ws.sc[4]
     transport_dh_faces(y, r, a, n, ws.temp, dtdh, ws.kc, ge, gm)
     divergence(ge, gm, n, col, False)
-    add_top_dh_column(col, y, n, f, ws.kc, df0, dtdh, amelt)
+    add_top_dh_column(col, y, n, g0, ws.kc, df0, dtdh, amelt)
     add_base_dh_column(col, y, r, n)
+    if int(par[P.DRAIN]) != 0:
+        add_drainage_dh_column(col, n, par, ws.wflux, ws.qsink, ws.temp, ws.phi, ws.sbr, dtdh, h)
+    if par[P.FLUSH] > 0.0 and amelt > 0.0:
+        add_flushing_dh_column(col, n, par, amelt, ws.phi, ws.temp, ws.sbr, dtdh, h)
 
 
 @jit
@@ -167,6 +173,8 @@ def jacobian(y, r, a, amelt, n, df0, a_dt, par, ws):
     top_melt_blocks(di, amelt, dz)
     if int(par[P.DRAIN]) != 0:
         drainage_blocks(n, dz, par, ws.phi, ws.temp, ws.dtde, ws.dtdm, ws.wflux, di, up)
+    if par[P.FLUSH] > 0.0 and amelt > 0.0:
+        flushing_blocks(n, dz, par, amelt, ws.phi, ws.temp, ws.dtde, ws.dtdm, lo, di)
     for k in range(n):
         for p in range(4):
             lo[k, p] = -a_dt * lo[k, p]

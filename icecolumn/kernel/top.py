@@ -34,10 +34,11 @@ def snow_depth(fv, y, n):
 
 @jit
 def surface_flux(t0, k0, dz, fv, par, hs):
-    """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature and
-    the melt energy flux the capped surface could not take [W m-2].
+    """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature, the
+    melt energy flux the capped surface could not take, and the penetrating shortwave [W m-2].
 
-    The flux includes the shortwave that penetrates the surface (energy balance scheme).
+    The flux includes the shortwave that penetrates the surface (energy balance scheme); the
+    rest of it is conduction from the surface to the top layer's centre.
     """
     rs = hs / par[P.KSNOW] if hs > 0.0 else 0.0
     rc = 0.5 * dz / k0 + rs  # resistance surface -> top-layer centre
@@ -47,7 +48,7 @@ def surface_flux(t0, k0, dz, fv, par, hs):
     if scheme == 1:
         tsp = fv[F.TSURF]
         ts = tsp if tsp < tm else tm
-        return (ts - t0) / rc, -1.0 / rc, ts, 0.0
+        return (ts - t0) / rc, -1.0 / rc, ts, 0.0, 0.0
     if scheme == 0:
         hc = par[P.HTC]
         rt = 1.0 / hc + rc
@@ -56,8 +57,8 @@ def surface_flux(t0, k0, dz, fv, par, hs):
         if ts > tm:
             f_air = hc * (ta - tm)
             f = (tm - t0) / rc
-            return f, -1.0 / rc, tm, f_air - f
-        return f, -1.0 / rt, ts, 0.0
+            return f, -1.0 / rc, tm, f_air - f, 0.0
+        return f, -1.0 / rt, ts, 0.0, 0.0
     # energy balance: solve F_net(T_s) = (T_s - T0) / rc for T_s
     sw, lw, wind, rh = atmosphere(fv, par)
     i0 = 0.0 if hs >= SNOW_COVER_THICKNESS else PENETRATION_ICE
@@ -81,10 +82,10 @@ def surface_flux(t0, k0, dz, fv, par, hs):
         pen = i0 * (1.0 - alb) * sw
         fn, _ = net_surface_flux_scalar(tm, ta, sw, lw, wind, rh, alb, i0)
         f = (tm - t0) / rc
-        return f + pen, -1.0 / rc, tm, fn - f
+        return f + pen, -1.0 / rc, tm, fn - f, pen
     _, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
     dts = (-1.0 / rc) / (dfn - 1.0 / rc)  # d T_s / d T0 (implicit function)
-    return (ts - t0) / rc + pen, (dts - 1.0) / rc, ts, 0.0
+    return (ts - t0) / rc + pen, (dts - 1.0) / rc, ts, 0.0, pen
 
 
 @jit
@@ -113,20 +114,21 @@ def surface_melt_rate(y, n, par, melt_energy):
 def top_state(y, n, par, fv, temp0, k0, a_in):
     """Fluxes of the upper boundary.
 
-    Returns ``(f0, df0, ts, melt, fsnow, a, used)``: conduction into the top layer [W m-2] and
-    its derivative w.r.t. the top temperature, the surface temperature [degC], the melt energy
-    flux [W m-2], the fraction of it that melts snow, the surface melt rate of the ice [m s-1]
-    (``a_in`` if >= 0, the rate held over a step) and the melt energy used on the ice [W m-2].
+    Returns ``(f0, df0, ts, melt, fsnow, a, used, pen)``: the flux into the top layer [W m-2]
+    and its derivative w.r.t. the top temperature, the surface temperature [degC], the melt
+    energy flux [W m-2], the fraction of it that melts snow, the surface melt rate of the ice
+    [m s-1] (``a_in`` if >= 0, the rate held over a step), the melt energy used on the ice and
+    the penetrating shortwave included in ``f0`` [W m-2].
     """
     h = y[2 * n]
     dz = h / n
     hs = snow_depth(fv, y, n)
-    f0, df0, ts, melt = surface_flux(temp0, k0, dz, fv, par, hs)
+    f0, df0, ts, melt, pen = surface_flux(temp0, k0, dz, fv, par, hs)
     # melt energy goes to the snow first (smoothly handed to the ice as the last cm melts)
     fsnow = hs / SNOW_COVER_THICKNESS if hs < SNOW_COVER_THICKNESS else 1.0
     a = surface_melt_rate(y, n, par, (1.0 - fsnow) * melt) if a_in < 0.0 else a_in
     used = a * (-y[0] / dz)  # melt energy used: melts ice into water at 0 degC (H = 0)
-    return f0, df0, ts, melt, fsnow, a, used
+    return f0, df0, ts, melt, fsnow, a, used, pen
 
 
 @jit
@@ -167,18 +169,20 @@ def top_flux_blocks(di, df0, dtde, dtdm):
 
 @jit
 def top_melt_blocks(di, amelt, dz):
-    """Jacobian of the salt leaving with surface melt water."""
+    """Jacobian of surface melt at its held rate: the melt energy used, ``a (-e_0/dz)``, and the
+    salt leaving with the melt water, ``a m_0/dz``."""
+    di[0, 0] -= amelt / dz
     di[0, 3] -= amelt / dz
 
 
 @jit
-def add_top_dh_column(col, y, n, f, kc, df0, dtdh, amelt):
-    """d f / d h of the upper boundary at fixed contents (conduction through the top half layer,
-    melt energy and melt-water salt through the layer thickness)."""
+def add_top_dh_column(col, y, n, g0, kc, df0, dtdh, amelt):
+    """d f / d h of the upper boundary at fixed contents (conduction ``g0`` [W m-2] through the
+    top half layer, melt energy and melt-water salt through the layer thickness)."""
     h = y[2 * n]
     ih = 1.0 / h
     idz = n * ih
     used = amelt * (-y[0] * idz)
-    f0 = f[2 * n + 1 + B.E_SURF] - used
-    col[0] += df0 * dtdh[0] + f0 * df0 / (2.0 * kc[0] * n) - used * ih
+    # conduction g0 through the resistance rc = dz/(2 k0) + snow: d g0 / d rc = g0 d g0 / d T0
+    col[0] += df0 * dtdh[0] + g0 * df0 / (2.0 * kc[0] * n) - used * ih
     col[n] += amelt * y[n] * idz * ih

@@ -27,7 +27,8 @@ the same figures as a dict (what ``--json`` writes); its keys:
   ``None`` when either code did not reach 0.1 % on its ladder.
 * ``peer_ratio_bdf``: (best solve_ivp time at 0.1 %, BDF or LSODA, whichever is faster) /
   (icecolumn time at 0.1 %), P1; ``peer_ratio_bdf_method`` says which; ``peer_ratio_by_method``
-  gives both.
+  gives both.  ``peer_ratio_explicit_cpu``, ``peer_ratio_bdf_cpu``: the same ratios of process
+  CPU time (less sensitive to other load on a shared machine; all codes run on one core).
 * ``order_explicit``, ``order_bdf``, ``order_icecolumn``: least-squares slope of
   ``-log(error)`` against ``log(cells or layers)`` on P1 (doubling ladders; solve_ivp at its
   tightest tolerance, icecolumn at its tightest rtol); ``orders`` has the pairwise orders and the
@@ -176,14 +177,17 @@ def interleaved_timing(candidates, calls, rounds: int, per_round: int, log):
     """Median wall time of each candidate from ``rounds`` round-robin passes of ``per_round``
     calls each (the machine may be shared: interleaving spreads its load over all candidates)."""
     samples = {key: [] for key in candidates}
+    cpu = {key: [] for key in candidates}
     for _ in range(rounds):
         for key in candidates:
             fn = calls[key]
             for _ in range(per_round):
+                c0 = time.process_time()
                 t0 = time.perf_counter()
                 fn()
                 samples[key].append(time.perf_counter() - t0)
-    return {key: (statistics.median(v), len(v)) for key, v in samples.items()}
+                cpu[key].append(time.process_time() - c0)
+    return {key: (statistics.median(v), len(v), statistics.median(cpu[key])) for key, v in samples.items()}
 
 
 # ------------------------------------------------------------------------------------------ P1
@@ -253,8 +257,8 @@ def p1_summary(p1: dict, lad, log) -> dict:
         for r in ok[:lad["finalists"]]:
             finalists[(code, r["setting"])] = r
     timing = interleaved_timing(list(finalists), p1["calls"], lad["rounds"], lad["per_round"], log)
-    final_rows = [{"code": c, "setting": st, "error": finalists[(c, st)]["error"], "time_s": t, "repeats": k}
-                  for (c, st), (t, k) in timing.items()]
+    final_rows = [{"code": c, "setting": st, "error": finalists[(c, st)]["error"], "time_s": t, "repeats": k,
+                   "cpu_s": cpu} for (c, st), (t, k, cpu) in timing.items()]
     for r in final_rows:
         log(r)
     best = {code: min((r for r in final_rows if r["code"] == code), key=lambda r: r["time_s"], default=None)
@@ -277,15 +281,15 @@ def p1_summary(p1: dict, lad, log) -> dict:
                             rtol=rtol)
     ice = best["icecolumn"]
 
-    def ratio(b):
-        return None if (b is None or ice is None) else b["time_s"] / ice["time_s"]
+    def ratio(b, key="time_s"):
+        return None if (b is None or ice is None) else b[key] / ice[key]
 
     by_method = {m: ratio(best[f"solve_ivp_{m}"]) for m in mol_bdf.METHODS}
     ivp = [(best[f"solve_ivp_{m}"]["time_s"], m) for m in mol_bdf.METHODS if best[f"solve_ivp_{m}"] is not None]
     ivp_method = min(ivp)[1] if ivp else None
 
     def slim(d):
-        return {c: (None if b is None else {"setting": b["setting"], "error": b["error"], "time_s": b["time_s"]})
+        return {c: (None if b is None else {k: b[k] for k in ("setting", "error", "time_s", "cpu_s") if k in b})
                 for c, b in d.items()}
 
     return {
@@ -293,6 +297,8 @@ def p1_summary(p1: dict, lad, log) -> dict:
         "peer_ratio_bdf": by_method[ivp_method] if ivp_method else None,
         "peer_ratio_bdf_method": ivp_method,
         "peer_ratio_by_method": by_method,
+        "peer_ratio_explicit_cpu": ratio(best["explicit"], "cpu_s"),
+        "peer_ratio_bdf_cpu": ratio(best[f"solve_ivp_{ivp_method}"], "cpu_s") if ivp_method else None,
         "order_explicit": orders["explicit"]["order"],
         "order_bdf": orders[f"solve_ivp_{ivp_method or 'BDF'}"]["order"],
         "order_icecolumn": orders["icecolumn"]["order"],
@@ -418,7 +424,7 @@ def _print_report(res: dict) -> None:
                                     f"{b['setting']:<30} {100 * b['error']:.4f} %  {1e3 * b['time_s']:.2f} ms"))
     print("\n  finalists (tolerance-robust at 0.1 %), timed again in interleaved rounds:")
     for r in res["final_timing"]:
-        print("  " + _fmt_row(r))
+        print("  " + _fmt_row(r) + f"   cpu {1e3 * r['cpu_s']:.2f} ms")
     print("\n  time at 0.1 % (P1; cheapest finalist per code):")
     for code, b in res["time_at_target_s"].items():
         if b is None:
@@ -432,6 +438,7 @@ def _print_report(res: dict) -> None:
     print(f"\n  peer_ratio_explicit = {show(res['peer_ratio_explicit'])}   "
           f"peer_ratio_bdf = {show(res['peer_ratio_bdf'])} ({res['peer_ratio_bdf_method']}; by method: "
           + ", ".join(f"{m} {show(v)}" for m, v in res["peer_ratio_by_method"].items()) + ")")
+    print(f"  CPU-time ratios: explicit {show(res['peer_ratio_explicit_cpu'])}, solve_ivp {show(res['peer_ratio_bdf_cpu'])}")
     print("  convergence orders (P1, in cells / intervals / layers):")
     for code, o in res["orders"].items():
         pw = ", ".join("n/a" if p is None else f"{p:.2f}" for p in o["pairwise"])

@@ -2,7 +2,7 @@
 
 Usage::
 
-    python scripts/peers/compare.py [--json out.json] [--quick]
+    python scripts/peers/compare.py [--json out.json [--overwrite]] [--quick] [--verbose]
 
 For each code a ladder of resolutions (and tolerances for the solve_ivp peer and icecolumn) is run
 on P1 (fresh-water Neumann problem, exact solution) and P2 (salty mushy layer with a linear
@@ -373,8 +373,14 @@ def p2_runs(lad, log) -> dict:
         d60 = [r["solid_thickness_day60_m"] for r in rows]
         dd = [abs(d60[i + 1] - d60[i]) for i in range(len(d60) - 1)]
         p = math.log(dd[-2] / dd[-1]) / math.log(2.0) if len(dd) >= 2 and dd[-1] > 0 else None
+        extrap = None
+        if p is not None and p > 0:  # Richardson extrapolation of h_s(60 d) from the two finest runs
+            extrap = d60[-1] + (d60[-1] - d60[-2]) / (2.0 ** p - 1.0)
+            for r in rows:
+                r["rel_difference_day60_to_extrapolated"] = r["solid_thickness_day60_m"] / extrap - 1.0
         near[km] = {"note": "NOT the same problem: icecolumn's own liquidus and this conductivity model",
-                    "conductivity_model": km, "runs": rows, "observed_order_day60": p}
+                    "conductivity_model": km, "runs": rows, "observed_order_day60": p,
+                    "extrapolated_solid_thickness_day60_m": extrap}
         for r in rows:
             log({"code": f"icecolumn nearest ({km})", "setting": f"{r['layers']} layers, rtol {r['rtol']:g}",
                  "error": r["max_rel_difference_to_finest"], "time_s": r["time_s"], "repeats": r["repeats"]})
@@ -467,11 +473,16 @@ def _print_report(res: dict) -> None:
                                     f"{b['setting']:<30} {100 * b['error']:.4f} %  {1e3 * b['time_s']:.2f} ms"))
     print("\n  icecolumn on the NEAREST EQUIVALENT problem (its own liquidus; not the same problem as P2):")
     for km, near in p2["icecolumn_nearest_problem"].items():
-        print(f"    conductivity_model = {km}; observed order (h_s at 60 d) {show(near['observed_order_day60'])}")
+        ex = near["extrapolated_solid_thickness_day60_m"]
+        print(f"    conductivity_model = {km}; observed order (h_s at 60 d) {show(near['observed_order_day60'])}; "
+              f"extrapolated h_s(60 d) = " + ("n/a" if ex is None else f"{ex:.5f} m") + " (P2 peer reference "
+              f"{ref['solid_thickness_day60_m']:.5f} m)")
         for r in near["runs"]:
             print(f"      {r['layers']:>4} layers: h_s(60 d) = {r['solid_thickness_day60_m']:.5f} m "
                   f"(tracked base {r['tracked_thickness_day60_m']:.3f} m), vs finest {100 * r['max_rel_difference_to_finest']:.3f} %, "
-                  f"vs P2 peer reference {100 * r['max_rel_difference_to_peer_reference']:.2f} %, {1e3 * r['time_s']:.1f} ms")
+                  f"vs P2 peer reference {100 * r['max_rel_difference_to_peer_reference']:.2f} %, "
+                  + (f"h_s(60 d) vs extrapolated {100 * r['rel_difference_day60_to_extrapolated']:+.3f} %, "
+                     if "rel_difference_day60_to_extrapolated" in r else "") + f"{1e3 * r['time_s']:.1f} ms")
     m = res["machine"]
     print(f"\nmachine: {m['cores']} cores, Python {m['python']}, numpy {m['numpy']}, scipy {m['scipy']}, "
           f"icecolumn {m['icecolumn']}; medians of repeats; icecolumn warm-up {res['p1']['icecolumn_warmup_s']:.1f} s "
@@ -483,10 +494,11 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--json", type=Path, help="write the figures to this JSON file")
     ap.add_argument("--quick", action="store_true", help="short ladders (seconds, for tests)")
+    ap.add_argument("--overwrite", action="store_true", help="replace an existing --json file")
     ap.add_argument("--verbose", action="store_true", help="print every run as it finishes (stderr)")
     args = ap.parse_args(argv)
-    if args.json is not None and args.json.exists():
-        print(f"{args.json}: exists; not overwritten (remove it first)", file=sys.stderr)
+    if args.json is not None and args.json.exists() and not args.overwrite:
+        print(f"{args.json}: exists; not overwritten (give --overwrite)", file=sys.stderr)
         return 2
 
     def log(row):

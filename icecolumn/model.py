@@ -19,7 +19,6 @@ from .drainage import DRAINAGE_CODES, drainage_parameters
 from .errors import IceColumnError, InputError
 from .phase import liquidus_temperature_scalar, state_enthalpy
 from .properties import CONDUCTIVITY_MODELS
-from .timeutil import parse_duration, parse_time
 
 
 @dataclass
@@ -80,8 +79,8 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     # "auto" is resolved against the forcing by resolve_surface_scheme(); linear until then
     p[K.P_SURF] = K.SURFACE_SCHEMES.get(cfg.surface.scheme, K.SURFACE_SCHEMES["linear"])
     p[K.P_RTOL] = cfg.solver.rtol
-    p[K.P_MAXDT] = parse_duration(cfg.solver.max_step)
-    p[K.P_INITDT] = parse_duration(cfg.solver.initial_step)
+    p[K.P_MAXDT] = cfg.solver.max_step_seconds
+    p[K.P_INITDT] = cfg.solver.initial_step_seconds
     p[K.P_DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
     p[K.P_TMELT] = 0.0
     p[K.P_WIND] = 5.0  # m s-1, used by the energy balance when the forcing has no wind_speed
@@ -89,7 +88,7 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_H0] = cfg.ocean.new_ice_thickness
     p[K.P_MLTAU] = cfg.ocean.salinity_restoring_time * 86400.0
     p[K.P_SREF] = cfg.ocean.salinity
-    p[K.P_FLOODTAU] = parse_duration(cfg.snow.flooding_timescale) if cfg.snow.flooding == "hydrostatic" else 0.0
+    p[K.P_FLOODTAU] = cfg.snow.flooding_timescale_seconds if cfg.snow.flooding == "hydrostatic" else 0.0
     drainage_parameters(cfg, p)
     return p
 
@@ -208,8 +207,8 @@ def _steady_surface_temperature(cfg: Config, air: float) -> float:
 def run_period(cfg: Config, forcing: xr.Dataset, source: str = "forcing") -> tuple[np.datetime64, np.datetime64]:
     """Start and end of the run: ``[run]`` start/end or the forcing file's span."""
     t = forcing["time"].values
-    start = parse_time(cfg.run.start) if cfg.run.start else t[0]
-    end = parse_time(cfg.run.end) if cfg.run.end else t[-1]
+    start = cfg.run.start_time if cfg.run.start else t[0]
+    end = cfg.run.end_time if cfg.run.end else t[-1]
     if start < t[0] or end > t[-1]:
         raise InputError(
             f"{source}: the forcing covers {str(t[0])[:19]} to {str(t[-1])[:19]} but the run needs "
@@ -289,7 +288,7 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     start, end = run_period(cfg0, members[0].forcing, source)
     for m in members[1:]:
         run_period(cfg0, m.forcing, source)
-    interval = parse_duration(cfg0.output.interval)
+    interval = cfg0.output.interval_seconds
     times = output_times(start, end, interval)
     tsec = _seconds(times)
     for m in members:

@@ -353,7 +353,7 @@ def run_command(
     if not (out.parent if str(out.parent) else Path(".")).is_dir():
         raise InputError(f"{out}: folder {out.parent} does not exist")
     cfg = icecolumn.load_config(config, _overrides(assignments))
-    data = icecolumn.read_forcing(forcing, _column_map(columns, cfg), max_gap=cfg.forcing.max_gap)
+    data = icecolumn.read_forcing(forcing, _column_map(columns, cfg), max_gap=cfg.forcing.max_gap_seconds)
     if repeat > 1:
         from .forcing import repeat_forcing
 

@@ -102,7 +102,7 @@ def register(app: typer.Typer) -> None:
 
         cfg = load_config(config)
         if max_gap is None:
-            max_gap = cfg.forcing.max_gap
+            max_gap = cfg.forcing.max_gap_seconds
         elif config is not None:
             raise InputError("check: give --max-gap or --config, not both")
         ds, messages = check_forcing(forcing, _column_map(columns, cfg), max_gap)

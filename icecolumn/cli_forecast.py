@@ -76,11 +76,11 @@ def forecast_command(
     out = output if output is not None else Path(f"forecast_{str(t0)[:10]}.nc")
     _check_output(out, overwrite)
     cfg = icecolumn.load_config(config) if config is not None else icecolumn.default_config()
-    hist = icecolumn.read_forcing(history, cfg.forcing.column_map(), max_gap=cfg.forcing.max_gap)
+    hist = icecolumn.read_forcing(history, cfg.forcing.column_map(), max_gap=cfg.forcing.max_gap_seconds)
     therm = read_thermistor(profile, ice_thickness, at=t0) if profile is not None else None
     core = read_core(salinity, ice_thickness, at=t0) if salinity is not None else None
     prof, notes = initial_profile(ice_thickness, therm, core)
-    wx = (icecolumn.read_forcing(weather, cfg.forcing.column_map(), max_gap=cfg.forcing.max_gap)
+    wx = (icecolumn.read_forcing(weather, cfg.forcing.column_map(), max_gap=cfg.forcing.max_gap_seconds)
           if weather is not None else None)
     drill = read_observations(obs) if obs is not None else None
     if by is not None:
@@ -136,7 +136,7 @@ def calibrate_command(
     if fit is not None and fit != "ocean.heat_flux":
         extra = fit
     cfg = icecolumn.load_config(config) if config is not None else icecolumn.default_config()
-    data = icecolumn.read_forcing(forcing, cfg.forcing.column_map(), max_gap=cfg.forcing.max_gap)
+    data = icecolumn.read_forcing(forcing, cfg.forcing.column_map(), max_gap=cfg.forcing.max_gap_seconds)
     ob = read_observations(obs)
     result = calibrate(data, ob, cfg, extra=extra)
     write_fitted_config(result, out, overwrite=overwrite)

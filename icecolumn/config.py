@@ -1,13 +1,24 @@
 """Run configuration: frozen dataclasses read from and written to TOML.
 
-Every setting lives in the single table :data:`PARAMETERS`, keyed
-``"section.key"``, giving its default, unit, description and the rule it must
-obey.  Defaults, validation, the TOML writer and the documentation table
-(:func:`parameters_markdown`) are all derived from it.  To add a setting, add one
-line to :data:`PARAMETERS` and the matching field to its section dataclass; to
-add a section, also add its dataclass (with ``section = "<name>"``) as a field of
-:class:`Config`.  A consistency check at import time catches a table line without
-a field, or a field without a table line.
+Every setting is declared once, as a field of its section dataclass made with
+:func:`setting` (default, unit, description, kind and the rule it must obey)::
+
+    @dataclass(frozen=True)
+    class GridSection(_Section):
+        section: ClassVar[str] = "grid"
+        layers: int = setting(40, "1", "number of finite-volume layers in the ice", "int", 3, 1000)
+
+The table :data:`PARAMETERS` (keyed ``"section.key"``), defaults, validation, the
+TOML writer and the documentation table (:func:`parameters_markdown`) are all
+derived from these fields.  To add a setting, add one such field; to add a
+section, also add its dataclass (with ``section = "<name>"``) as a field of
+:class:`Config`.
+
+Durations and times are kept as the text the user wrote (so the TOML round trip
+is exact) and are also available parsed, next to their text: every duration
+setting ``key`` has a read-only ``key_seconds`` [s] (e.g.
+``cfg.solver.max_step_seconds``) and every time setting ``key`` a ``key_time``
+(``numpy.datetime64[ns]`` UTC, or ``None`` when unset; e.g. ``cfg.run.start_time``).
 
 A :class:`Config` is always valid: the section dataclasses check their values
 when built, and :class:`Config` checks the rules that link sections.
@@ -24,18 +35,23 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, ClassVar
 
+import tomli_w
+
 try:
     import tomllib
 except ModuleNotFoundError:  # Python < 3.11
     import tomli as tomllib  # type: ignore[no-redef]
 
+from . import constants as C
 from .errors import InputError
 from .textfile import read_user_text
 from .timeutil import parse_duration, parse_time
 
 __all__ = [
     "Param",
+    "setting",
     "PARAMETERS",
+    "SECTIONS",
     "DRAINAGE_SCHEMES",
     "SURFACE_SCHEMES",
     "CONDUCTIVITY_MODELS",
@@ -46,6 +62,7 @@ __all__ = [
     "OceanSection",
     "SurfaceSection",
     "PropertiesSection",
+    "SnowSection",
     "DrainageSection",
     "OutputSection",
     "SolverSection",
@@ -56,7 +73,6 @@ __all__ = [
     "parse_assignment",
     "parse_column_map",
     "parameters_markdown",
-    "toml_dumps",
 ]
 
 #: Names accepted by ``[surface] scheme``.
@@ -71,6 +87,9 @@ FLOODING_CHOICES: tuple[str, ...] = ("hydrostatic", "none")
 DRAINAGE_SCHEMES: tuple[str, ...] = ("none", "griewank_notz2013", "rees_jones_worster2014")
 #: Names accepted by ``[drainage] permeability``.
 PERMEABILITY_CHOICES: tuple[str, ...] = ("scheme", "freitag1999", "golden2007")
+
+#: Kinds of setting (see :class:`Param`).
+KINDS: tuple[str, ...] = ("int", "float", "choice", "columns", "duration", "time")
 
 
 @dataclass(frozen=True)
@@ -119,46 +138,17 @@ class Param:
         return text + ("" if self.kind == "duration" else unit if parts else "")
 
 
-# One line per setting: "section.key": Param(default, unit, description, kind, rule...)
-PARAMETERS: dict[str, Param] = {
-    "run.start": Param(None, "", "first time simulated (unset: start of the forcing)", "time"),
-    "run.end": Param(None, "", "last time simulated (unset: end of the forcing)", "time"),
-    "grid.layers": Param(40, "1", "number of finite-volume layers in the ice", "int", 3, 1000),
-    "initial.ice_thickness": Param(0.02, "m", "ice thickness at the start (0: open water, which freezes when the water reaches its freezing point and loses heat; otherwise at least 0.01)", "float", 0.0, 10.0),
-    "initial.snow_thickness": Param(0.0, "m", "snow thickness at the start", "float", 0.0),
-    "initial.bulk_salinity": Param(10.0, "g/kg", "uniform bulk salinity of the initial ice (at most [ocean] salinity)", "float", 0.0),
-    "ocean.salinity": Param(34.0, "g/kg", "ocean Absolute Salinity (TEOS-10)", "float", 0.0, 45.0),
-    "ocean.heat_flux": Param(2.0, "W m-2", "ocean heat flux into the ice base, used when the forcing has none", "float", -50.0, 500.0),
-    "ocean.mixed_layer_depth": Param(0.0, "m", "depth of a slab ocean mixed layer whose temperature and salinity evolve with the surface, the deep ocean heat flux and the ice's salt and fresh water (0: no mixed layer, the water under the ice stays at its freezing point)", "float", 0.0, 1000.0),
-    "ocean.salinity_restoring_time": Param(365.0, "days", "time over which exchange with the deep ocean restores the mixed-layer salinity to [ocean] salinity (0: a closed mixed layer; with a mixed layer only)", "float", 0.0),
-    "ocean.new_ice_thickness": Param(0.02, "m", "thickness of the new ice that open water at its freezing point forms once it has lost the heat to freeze it", "float", 0.015, 0.5),
-    "surface.scheme": Param("auto", "", "surface boundary: energy_balance (needs shortwave_down or cloud_fraction in the forcing), linear air-to-surface transfer, prescribed surface temperature from the forcing, or auto (energy_balance when the forcing allows it, else linear)", "choice", choices=SURFACE_SCHEMES),
-    "surface.heat_transfer_coefficient": Param(10.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient (10-30 typical, Ashton in Britannica)", "float", 0.0, None, True),
-    "properties.conductivity_model": Param("parallel_yen1991", "", "bulk thermal conductivity of sea ice", "choice", choices=CONDUCTIVITY_MODELS),
-    "properties.ice_conductivity": Param(2.03, "W m-1 K-1", "pure-ice conductivity (conductivity_model = constant)", "float", 0.0, None, True),
-    "properties.ice_density": Param(917.0, "kg m-3", "density of pure ice", "float", 0.0, None, True),
-    "properties.ice_specific_heat": Param(2100.0, "J kg-1 K-1", "specific heat capacity of pure ice", "float", 0.0, None, True),
-    "properties.brine_specific_heat": Param(3990.0, "J kg-1 K-1", "specific heat capacity of brine", "float", 0.0, None, True),
-    "properties.latent_heat": Param(334000.0, "J kg-1", "latent heat of fusion of ice", "float", 0.0, None, True),
-    "snow.conductivity_model": Param("constant", "", "snow conductivity: constant ([snow] conductivity) or sturm1997 (from [snow] density)", "choice", choices=SNOW_CONDUCTIVITY_MODELS),
-    "snow.conductivity": Param(0.31, "W m-1 K-1", "thermal conductivity of snow (conductivity_model = constant; classic constant of Maykut & Untersteiner 1971)", "float", 0.0, None, True),
-    "snow.density": Param(300.0, "kg m-3", "snow density (about 300 on Arctic sea ice, Warren et al. 1999): snowfall depth, Sturm conductivity, draft", "float", 50.0, 600.0),
-    "snow.flooding": Param("hydrostatic", "", "snow-ice formation: hydrostatic (sea water floods the snow base while the freeboard is negative) or none", "choice", choices=FLOODING_CHOICES),
-    "snow.flooding_timescale": Param("1D", "", "time over which flooding restores zero freeboard", "duration"),
-    "drainage.scheme": Param("griewank_notz2013", "", "brine gravity drainage scheme (none switches drainage off)", "choice", choices=DRAINAGE_SCHEMES),
-    "drainage.flux_coefficient": Param(None, "scheme units", "drainage flux coefficient alpha (unset: the scheme's published or calibrated value)", "float", 0.0),
-    "drainage.critical_rayleigh": Param(None, "1", "critical mush Rayleigh number (unset: the scheme's value)", "float", 0.0),
-    "drainage.permeability": Param("scheme", "", "permeability law (scheme: the law the scheme was calibrated with)", "choice", choices=PERMEABILITY_CHOICES),
-    "drainage.percolation_threshold": Param(0.03, "1", "liquid fraction below which ice is impermeable (published 0.02-0.05; default 0.03 after Maus et al. 2021 for young ice)", "float", 0.0, 0.2),
-    "drainage.flushing_fraction": Param(0.3, "1", "fraction of surface melt water that flushes down through permeable ice (0 switches flushing off; a setting of this project)", "float", 0.0, 1.0),
-    "drainage.onset_smoothing": Param(1.0, "1", "width of the C1 smoothing of (Ra - Ra_c)+ in Rayleigh units", "float", 0.0, None, True),
-    "output.interval": Param("6h", "", "time between output records (e.g. 30min, 1h, 6h, 1D)", "duration", multiple_of=60.0),
-    "solver.rtol": Param(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True),
-    "solver.max_step": Param("6h", "", "longest time step allowed", "duration"),
-    "solver.initial_step": Param("10min", "", "first time step tried (at most max_step)", "duration"),
-    "forcing.columns": Param("", "", "forcing column (or NetCDF variable) names that differ from ours, as ours=theirs pairs separated by commas, e.g. 'air_temperature=Tair_C, wind_speed=WS' (--column on the command line adds to and overrides these)", "columns"),
-    "forcing.max_gap": Param("6h", "", "longest gap in a forcing column (empty cells or missing rows) filled by linear interpolation; longer gaps are an error", "duration"),
-}
+def setting(default: Any, unit: str, description: str, kind: str, minimum: float | None = None,
+            maximum: float | None = None, exclusive: bool = False, *, choices: tuple[str, ...] = (),
+            multiple_of: float | None = None) -> Any:
+    """Declare one setting: a dataclass field whose metadata holds its :class:`Param`.
+
+    Arguments are those of :class:`Param`; ``default`` is also the field's default.
+    """
+    if kind not in KINDS:
+        raise ValueError(f"setting kind {kind!r} is not one of {KINDS}")
+    param = Param(default, unit, description, kind, minimum, maximum, exclusive, choices, multiple_of)
+    return field(default=default, metadata={"param": param})
 
 
 def _unit_suffix(unit: str) -> str:
@@ -210,10 +200,7 @@ def _check_value(section: str, key: str, value: Any, source: str) -> Any:
     if p.kind == "columns":
         if not isinstance(value, str):
             raise InputError(f"{where}: expected a text of ours=theirs pairs, got {_show(value)}")
-        try:
-            pairs = parse_column_map(value, f"{where} = {_show(value)}")
-        except InputError:
-            raise
+        pairs = parse_column_map(value, f"{where} = {_show(value)}")
         return ", ".join(f"{k}={v}" for k, v in pairs.items())
     if p.kind == "choice":
         if not isinstance(value, str):
@@ -312,14 +299,48 @@ def _check_cross(values: dict[str, dict[str, Any]], source_of: dict[str, str]) -
         )
 
 
-def _default(name: str) -> Any:
-    return PARAMETERS[name].default
+def _seconds_of(name: str) -> property:
+    def get(self) -> float:
+        return parse_duration(getattr(self, name))
+
+    get.__doc__ = f"``{name}`` in seconds [s]."
+    return property(get)
+
+
+def _time_of(name: str) -> property:
+    def get(self):
+        text = getattr(self, name)
+        return None if text is None else parse_time(text)
+
+    get.__doc__ = f"``{name}`` as numpy.datetime64[ns] UTC, or None when unset."
+    return property(get)
+
+
+#: Suffix of the parsed companion of each kind of setting (see the module docstring).
+PARSED_SUFFIX: dict[str, str] = {"duration": "_seconds", "time": "_time"}
 
 
 class _Section:
-    """Base of the section dataclasses: validates and normalises on construction."""
+    """Base of the section dataclasses: validates and normalises on construction.
+
+    Every field must be declared with :func:`setting`.  A subclass gets the parsed
+    companions of its duration (``<key>_seconds``) and time (``<key>_time``) settings.
+    """
 
     section: ClassVar[str]
+
+    def __init_subclass__(cls, **kwargs: Any) -> None:
+        super().__init_subclass__(**kwargs)
+        for name, value in list(vars(cls).items()):
+            if not isinstance(value, dataclasses.Field):
+                continue
+            if "param" not in value.metadata:
+                raise TypeError(f"{cls.__name__}.{name}: declare settings with config.setting(...)")
+            kind = value.metadata["param"].kind
+            if kind == "duration":
+                setattr(cls, name + PARSED_SUFFIX[kind], _seconds_of(name))
+            elif kind == "time":
+                setattr(cls, name + PARSED_SUFFIX[kind], _time_of(name))
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):
@@ -332,8 +353,8 @@ class RunSection(_Section):
     """``[run]``: the simulated period (ISO 8601 texts; ``None`` = forcing span)."""
 
     section: ClassVar[str] = "run"
-    start: str | None = _default("run.start")
-    end: str | None = _default("run.end")
+    start: str | None = setting(None, "", "first time simulated (unset: start of the forcing)", "time")
+    end: str | None = setting(None, "", "last time simulated (unset: end of the forcing)", "time")
 
 
 @dataclass(frozen=True)
@@ -341,7 +362,7 @@ class GridSection(_Section):
     """``[grid]``: vertical discretisation."""
 
     section: ClassVar[str] = "grid"
-    layers: int = _default("grid.layers")
+    layers: int = setting(40, "1", "number of finite-volume layers in the ice", "int", 3, 1000)
 
 
 @dataclass(frozen=True)
@@ -349,9 +370,12 @@ class InitialSection(_Section):
     """``[initial]``: state of the column at the start."""
 
     section: ClassVar[str] = "initial"
-    ice_thickness: float = _default("initial.ice_thickness")
-    snow_thickness: float = _default("initial.snow_thickness")
-    bulk_salinity: float = _default("initial.bulk_salinity")
+    ice_thickness: float = setting(
+        0.02, "m", "ice thickness at the start (0: open water, which freezes when the water reaches its freezing "
+        "point and loses heat; otherwise at least 0.01)", "float", 0.0, 10.0)
+    snow_thickness: float = setting(0.0, "m", "snow thickness at the start", "float", 0.0)
+    bulk_salinity: float = setting(
+        10.0, "g/kg", "uniform bulk salinity of the initial ice (at most [ocean] salinity)", "float", 0.0)
 
 
 @dataclass(frozen=True)
@@ -359,11 +383,19 @@ class OceanSection(_Section):
     """``[ocean]``: the water under the ice."""
 
     section: ClassVar[str] = "ocean"
-    salinity: float = _default("ocean.salinity")
-    heat_flux: float = _default("ocean.heat_flux")
-    mixed_layer_depth: float = _default("ocean.mixed_layer_depth")
-    salinity_restoring_time: float = _default("ocean.salinity_restoring_time")
-    new_ice_thickness: float = _default("ocean.new_ice_thickness")
+    salinity: float = setting(C.OCEAN_SALINITY, "g/kg", "ocean Absolute Salinity (TEOS-10)", "float", 0.0, 45.0)
+    heat_flux: float = setting(
+        2.0, "W m-2", "ocean heat flux into the ice base, used when the forcing has none", "float", -50.0, 500.0)
+    mixed_layer_depth: float = setting(
+        0.0, "m", "depth of a slab ocean mixed layer whose temperature and salinity evolve with the surface, the "
+        "deep ocean heat flux and the ice's salt and fresh water (0: no mixed layer, the water under the ice stays "
+        "at its freezing point)", "float", 0.0, 1000.0)
+    salinity_restoring_time: float = setting(
+        365.0, "days", "time over which exchange with the deep ocean restores the mixed-layer salinity to [ocean] "
+        "salinity (0: a closed mixed layer; with a mixed layer only)", "float", 0.0)
+    new_ice_thickness: float = setting(
+        0.02, "m", "thickness of the new ice that open water at its freezing point forms once it has lost the heat "
+        "to freeze it", "float", 0.015, 0.5)
 
 
 @dataclass(frozen=True)
@@ -371,8 +403,13 @@ class SurfaceSection(_Section):
     """``[surface]``: upper boundary condition."""
 
     section: ClassVar[str] = "surface"
-    scheme: str = _default("surface.scheme")
-    heat_transfer_coefficient: float = _default("surface.heat_transfer_coefficient")
+    scheme: str = setting(
+        "auto", "", "surface boundary: energy_balance (needs shortwave_down or cloud_fraction in the forcing), "
+        "linear air-to-surface transfer, prescribed surface temperature from the forcing, or auto (energy_balance "
+        "when the forcing allows it, else linear)", "choice", choices=SURFACE_SCHEMES)
+    heat_transfer_coefficient: float = setting(
+        10.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient (10-30 typical, Ashton in "
+        "Britannica)", "float", 0.0, None, True)
 
 
 @dataclass(frozen=True)
@@ -380,12 +417,16 @@ class PropertiesSection(_Section):
     """``[properties]``: material properties of ice, brine and snow."""
 
     section: ClassVar[str] = "properties"
-    conductivity_model: str = _default("properties.conductivity_model")
-    ice_conductivity: float = _default("properties.ice_conductivity")
-    ice_density: float = _default("properties.ice_density")
-    ice_specific_heat: float = _default("properties.ice_specific_heat")
-    brine_specific_heat: float = _default("properties.brine_specific_heat")
-    latent_heat: float = _default("properties.latent_heat")
+    conductivity_model: str = setting("parallel_yen1991", "", "bulk thermal conductivity of sea ice", "choice",
+                                      choices=CONDUCTIVITY_MODELS)
+    ice_conductivity: float = setting(C.ICE_CONDUCTIVITY, "W m-1 K-1", "pure-ice conductivity (conductivity_model = constant)",
+                                      "float", 0.0, None, True)
+    ice_density: float = setting(C.ICE_DENSITY, "kg m-3", "density of pure ice", "float", 0.0, None, True)
+    ice_specific_heat: float = setting(C.ICE_SPECIFIC_HEAT, "J kg-1 K-1", "specific heat capacity of pure ice", "float", 0.0,
+                                       None, True)
+    brine_specific_heat: float = setting(C.BRINE_SPECIFIC_HEAT, "J kg-1 K-1", "specific heat capacity of brine", "float", 0.0,
+                                         None, True)
+    latent_heat: float = setting(C.LATENT_HEAT, "J kg-1", "latent heat of fusion of ice", "float", 0.0, None, True)
 
 
 @dataclass(frozen=True)
@@ -393,11 +434,19 @@ class SnowSection(_Section):
     """``[snow]``: the snow layer on the ice."""
 
     section: ClassVar[str] = "snow"
-    conductivity_model: str = _default("snow.conductivity_model")
-    conductivity: float = _default("snow.conductivity")
-    density: float = _default("snow.density")
-    flooding: str = _default("snow.flooding")
-    flooding_timescale: str = _default("snow.flooding_timescale")
+    conductivity_model: str = setting(
+        "constant", "", "snow conductivity: constant ([snow] conductivity) or sturm1997 (from [snow] density)",
+        "choice", choices=SNOW_CONDUCTIVITY_MODELS)
+    conductivity: float = setting(
+        C.SNOW_CONDUCTIVITY, "W m-1 K-1", "thermal conductivity of snow (conductivity_model = constant; classic constant of "
+        "Maykut & Untersteiner 1971)", "float", 0.0, None, True)
+    density: float = setting(
+        300.0, "kg m-3", "snow density (about 300 on Arctic sea ice, Warren et al. 1999): snowfall depth, Sturm "
+        "conductivity, draft", "float", 50.0, 600.0)
+    flooding: str = setting(
+        "hydrostatic", "", "snow-ice formation: hydrostatic (sea water floods the snow base while the freeboard is "
+        "negative) or none", "choice", choices=FLOODING_CHOICES)
+    flooding_timescale: str = setting("1D", "", "time over which flooding restores zero freeboard", "duration")
 
 
 @dataclass(frozen=True)
@@ -405,13 +454,23 @@ class DrainageSection(_Section):
     """``[drainage]``: brine gravity drainage."""
 
     section: ClassVar[str] = "drainage"
-    scheme: str = _default("drainage.scheme")
-    flux_coefficient: float | None = _default("drainage.flux_coefficient")
-    critical_rayleigh: float | None = _default("drainage.critical_rayleigh")
-    permeability: str = _default("drainage.permeability")
-    percolation_threshold: float = _default("drainage.percolation_threshold")
-    onset_smoothing: float = _default("drainage.onset_smoothing")
-    flushing_fraction: float = _default("drainage.flushing_fraction")
+    scheme: str = setting("griewank_notz2013", "", "brine gravity drainage scheme (none switches drainage off)",
+                          "choice", choices=DRAINAGE_SCHEMES)
+    flux_coefficient: float | None = setting(
+        None, "scheme units", "drainage flux coefficient alpha (unset: the scheme's published or calibrated value)",
+        "float", 0.0)
+    critical_rayleigh: float | None = setting(
+        None, "1", "critical mush Rayleigh number (unset: the scheme's value)", "float", 0.0)
+    permeability: str = setting("scheme", "", "permeability law (scheme: the law the scheme was calibrated with)",
+                                "choice", choices=PERMEABILITY_CHOICES)
+    percolation_threshold: float = setting(
+        0.03, "1", "liquid fraction below which ice is impermeable (published 0.02-0.05; default 0.03 after Maus et "
+        "al. 2021 for young ice)", "float", 0.0, 0.2)
+    onset_smoothing: float = setting(1.0, "1", "width of the C1 smoothing of (Ra - Ra_c)+ in Rayleigh units",
+                                     "float", 0.0, None, True)
+    flushing_fraction: float = setting(
+        0.3, "1", "fraction of surface melt water that flushes down through permeable ice (0 switches flushing "
+        "off; a setting of this project)", "float", 0.0, 1.0)
 
 
 @dataclass(frozen=True)
@@ -419,7 +478,8 @@ class OutputSection(_Section):
     """``[output]``: what is written and how often."""
 
     section: ClassVar[str] = "output"
-    interval: str = _default("output.interval")
+    interval: str = setting("6h", "", "time between output records (e.g. 30min, 1h, 6h, 1D)", "duration",
+                            multiple_of=60.0)
 
 
 @dataclass(frozen=True)
@@ -427,9 +487,9 @@ class SolverSection(_Section):
     """``[solver]``: time integration."""
 
     section: ClassVar[str] = "solver"
-    rtol: float = _default("solver.rtol")
-    max_step: str = _default("solver.max_step")
-    initial_step: str = _default("solver.initial_step")
+    rtol: float = setting(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True)
+    max_step: str = setting("6h", "", "longest time step allowed", "duration")
+    initial_step: str = setting("10min", "", "first time step tried (at most max_step)", "duration")
 
 
 @dataclass(frozen=True)
@@ -443,12 +503,18 @@ class ForcingSection(_Section):
     """
 
     section: ClassVar[str] = "forcing"
-    columns: str = _default("forcing.columns")
-    max_gap: str = _default("forcing.max_gap")
+    columns: str = setting(
+        "", "", "forcing column (or NetCDF variable) names that differ from ours, as ours=theirs pairs separated by "
+        "commas, e.g. 'air_temperature=Tair_C, wind_speed=WS' (--column on the command line adds to and overrides "
+        "these)", "columns")
+    max_gap: str = setting(
+        "6h", "", "longest gap in a forcing column (empty cells or missing rows) filled by linear interpolation; "
+        "longer gaps are an error", "duration")
 
-    def column_map(self) -> dict[str, str]:
-        """``columns`` as a dict {our name: the file's name}."""
-        return parse_column_map(self.columns, "[forcing] columns")
+    def column_map(self, extra: dict[str, str] | None = None) -> dict[str, str]:
+        """``columns`` as a dict {our name: the file's name}; the pairs of ``extra`` (e.g. the
+        command line's ``--column``) add to it and override it."""
+        return {**parse_column_map(self.columns, "[forcing] columns"), **(extra or {})}
 
 
 @dataclass(frozen=True)
@@ -478,13 +544,12 @@ class Config:
         return {name: dataclasses.asdict(getattr(self, name)) for name in SECTIONS}
 
     def to_toml(self) -> str:
-        """The full resolved configuration as TOML text (unset keys omitted).
+        """The full resolved configuration as TOML text (unset keys omitted), units as comments.
 
         Loading the text again with :func:`config_from_toml_text` gives an equal
         :class:`Config`.
         """
-        comments = {name: _unit_suffix(p.unit).strip() for name, p in PARAMETERS.items()}
-        return "# icecolumn configuration, fully resolved\n" + toml_dumps(self.to_dict(), comments)
+        return "# icecolumn configuration, fully resolved\n" + _with_unit_comments(toml_text(self.to_dict()))
 
     def replace(self, section: str, **changes: Any) -> Config:
         """A copy with some settings of one section changed (validated).
@@ -503,19 +568,19 @@ class Config:
 SECTIONS: dict[str, type[_Section]] = {f.name: f.default_factory for f in dataclasses.fields(Config)}  # type: ignore[misc]
 
 
-def _check_table_matches_dataclasses() -> None:
-    declared = {f"{name}.{f.name}" for name, cls in SECTIONS.items() for f in dataclasses.fields(cls)}
+def _parameter_table() -> dict[str, Param]:
+    table: dict[str, Param] = {}
     for name, cls in SECTIONS.items():
         if cls.section != name:
             raise RuntimeError(f"{cls.__name__}.section is {cls.section!r}, but Config names it {name!r}")
-    if declared != set(PARAMETERS):
-        raise RuntimeError(
-            "config.PARAMETERS and the section dataclasses disagree: "
-            f"only in table {sorted(set(PARAMETERS) - declared)}, only in dataclasses {sorted(declared - set(PARAMETERS))}"
-        )
+        for f in dataclasses.fields(cls):
+            table[f"{name}.{f.name}"] = f.metadata["param"]
+    return table
 
 
-_check_table_matches_dataclasses()
+#: Every setting, ``"section.key"`` -> :class:`Param`, in TOML order (derived from the
+#: section dataclasses' fields).
+PARAMETERS: dict[str, Param] = _parameter_table()
 
 
 def _suggest(word: str, options: list[str], fmt, noun: str) -> str:
@@ -570,10 +635,11 @@ def config_from_toml_text(text: str, source: str = "<string>") -> Config:
     source : str
         Name used first in error messages (usually the file name). [1]
     """
-    return _build(default_config().to_dict(), [(source, _parse_toml(text, source))])
+    return _build(default_config().to_dict(), [(source, parse_toml(text, source))])
 
 
-def _parse_toml(text: str, source: str) -> dict[str, Any]:
+def parse_toml(text: str, source: str) -> dict[str, Any]:
+    """TOML text as a dict; invalid TOML is one :class:`InputError` line naming ``source``."""
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
@@ -605,8 +671,8 @@ def load_config(path: str | Path | None = None, overrides: dict[str, dict[str, A
     layers: list[tuple[str, Any]] = []
     if path is not None:
         name = str(path)
-        text, raw = read_user_text(path, "configuration file")
-        layers.append((name, _parse_toml(text, name)))
+        text, _ = read_user_text(path, "configuration file")
+        layers.append((name, parse_toml(text, name)))
     layers.append(("override", overrides))
     return _build(default_config().to_dict(), layers)
 
@@ -643,6 +709,15 @@ def parse_assignment(text: str) -> dict[str, dict[str, Any]]:
     return {section: {key: value}}
 
 
+def parse_assignments(texts: list[str] | None) -> dict[str, dict[str, Any]]:
+    """Several ``"section.key=value"`` texts merged into one override dict (later ones win)."""
+    merged: dict[str, dict[str, Any]] = {}
+    for text in texts or []:
+        for section, table in parse_assignment(text).items():
+            merged.setdefault(section, {}).update(table)
+    return merged
+
+
 def parameters_markdown() -> str:
     """Markdown table of every setting: key, default, unit, allowed values, meaning."""
     rows = ["| setting | default | unit | allowed | meaning |", "|---|---|---|---|---|"]
@@ -653,54 +728,31 @@ def parameters_markdown() -> str:
     return "\n".join(rows) + "\n"
 
 
-_TOML_ESCAPES = {'"': '\\"', "\\": "\\\\", "\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f", "\r": "\\r"}
+def toml_text(sections: dict[str, dict[str, Any]]) -> str:
+    """TOML text of ``{section: {key: value}}`` (tomli-w); ``None`` values are left out."""
+    return tomli_w.dumps({s: {k: v for k, v in t.items() if v is not None} for s, t in sections.items()})
 
 
 def _toml_value(value: Any) -> str:
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, int):
-        return str(value)
-    if isinstance(value, float):
-        if math.isnan(value):
-            return "nan"
-        if math.isinf(value):
-            return "inf" if value > 0 else "-inf"
-        return repr(value)
-    if isinstance(value, str):
-        out = "".join(
-            _TOML_ESCAPES.get(c, f"\\u{ord(c):04x}" if ord(c) < 0x20 or ord(c) == 0x7F else c) for c in value
-        )
-        return f'"{out}"'
-    raise TypeError(f"cannot write {type(value).__name__} value {value!r} to TOML")
+    """One value as TOML text (e.g. ``"6h"`` with its quotes, ``0.02``)."""
+    return toml_text({"v": {"k": value}}).split(" = ", 1)[1].rstrip("\n")
 
 
-_BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
+def _with_unit_comments(text: str) -> str:
+    """Add each setting's unit as a trailing ``# unit`` comment to the ``key = value`` lines.
 
-
-def toml_dumps(sections: dict[str, dict[str, Any]], comments: dict[str, str] | None = None) -> str:
-    """Write flat TOML sections of str/int/float/bool values; ``None`` values are left out.
-
-    Parameters
-    ----------
-    sections : dict
-        ``{section: {key: value}}``. [1]
-    comments : dict, optional
-        ``{"section.key": text}`` written as a trailing ``# text`` comment. [1]
+    tomli-w writes no comments; its output has one ``key = value`` line per setting (the
+    values here are scalars), so the comment is appended to the line of each known key.
     """
-    comments = comments or {}
-
-    def key_text(k: str) -> str:
-        return k if _BARE_KEY.fullmatch(k) else _toml_value(k)
-
-    blocks = []
-    for section, table in sections.items():
-        lines = [f"[{key_text(section)}]"]
-        for key, value in table.items():
-            if value is None:
-                continue
-            line = f"{key_text(key)} = {_toml_value(value)}"
-            note = comments.get(f"{section}.{key}")
-            lines.append(f"{line}  # {note}" if note else line)
-        blocks.append("\n".join(lines))
-    return "\n\n".join(blocks) + "\n"
+    out, section = [], ""
+    for line in text.splitlines():
+        if line.startswith("["):
+            section = line.strip()[1:-1]
+        else:
+            key, sep, _ = line.partition(" = ")
+            param = PARAMETERS.get(f"{section}.{key}") if sep else None
+            unit = _unit_suffix(param.unit).strip() if param is not None else ""
+            if unit:
+                line = f"{line}  # {unit}"
+        out.append(line)
+    return "\n".join(out) + "\n"

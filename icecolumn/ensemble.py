@@ -57,7 +57,6 @@ from .errors import IceColumnError, InputError
 from .forcing import read_forcing
 from .output import to_dataset, write_netcdf
 from .textfile import check_new_output, read_user_text
-from .timeutil import parse_duration
 
 __all__ = ["EnsembleSpec", "load_spec", "run_members", "run_members_to_file", "output_variable_names",
            "SCALE_HINT"]
@@ -231,7 +230,7 @@ def load_spec(path) -> EnsembleSpec:
         if not p.is_file():
             raise InputError(f"{where}: forcing file {str(text_)!r} not found (looked for {p})")
         if p not in forcing_cache:
-            forcing_cache[p] = read_forcing(p, base.forcing.column_map(), max_gap=base.forcing.max_gap)
+            forcing_cache[p] = read_forcing(p, base.forcing.column_map(), max_gap=base.forcing.max_gap_seconds)
         return forcing_cache[p]
 
     listed = raw_members or [{}]
@@ -283,11 +282,11 @@ def check_members(members: Sequence[model.Member], names: Sequence[str], source:
         if m.config.grid.layers != c0.grid.layers:
             raise InputError(f"{where}: [grid] layers = {m.config.grid.layers} differs from member {names[0]!r} "
                              f"({c0.grid.layers}); all members need the same layers")
-        if parse_duration(m.config.output.interval) != parse_duration(c0.output.interval):
+        if m.config.output.interval_seconds != c0.output.interval_seconds:
             raise InputError(f"{where}: [output] interval = {m.config.output.interval!r} differs from member "
                              f"{names[0]!r} ({c0.output.interval!r}); all members need the same interval")
         start, end = model.run_period(m.config, m.forcing, where)
-        times = model.output_times(start, end, parse_duration(m.config.output.interval))
+        times = model.output_times(start, end, m.config.output.interval_seconds)
         if times0 is None:
             times0 = times
         elif times.shape != times0.shape or not np.array_equal(times, times0):

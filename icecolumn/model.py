@@ -19,7 +19,6 @@ from .constants import SEAWATER_DENSITY
 from .errors import IceColumnError, InputError
 from .phase import liquidus_temperature_scalar, state_enthalpy
 from .properties import snow_conductivity_of
-from .timeutil import parse_duration, parse_time
 
 
 @dataclass
@@ -181,8 +180,8 @@ def _steady_surface_temperature(cfg: Config, air: float) -> float:
 def run_period(cfg: Config, forcing: xr.Dataset, source: str = "forcing") -> tuple[np.datetime64, np.datetime64]:
     """Start and end of the run: ``[run]`` start/end or the forcing file's span."""
     t = forcing["time"].values
-    start = parse_time(cfg.run.start) if cfg.run.start else t[0]
-    end = parse_time(cfg.run.end) if cfg.run.end else t[-1]
+    start = cfg.run.start_time if cfg.run.start else t[0]
+    end = cfg.run.end_time if cfg.run.end else t[-1]
     if start < t[0] or end > t[-1]:
         raise InputError(
             f"{source}: the forcing covers {str(t[0])[:19]} to {str(t[-1])[:19]} but the run needs "
@@ -262,7 +261,7 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     start, end = run_period(cfg0, members[0].forcing, source)
     for m in members[1:]:
         run_period(cfg0, m.forcing, source)
-    interval = parse_duration(cfg0.output.interval)
+    interval = cfg0.output.interval_seconds
     times = output_times(start, end, interval)
     tsec = _seconds(times)
     for m in members:

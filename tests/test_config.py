@@ -330,9 +330,47 @@ def test_config_is_frozen_and_sections_validate_on_construction():
         Config(initial=cfgmod.InitialSection(bulk_salinity=40.0))
 
 
-def test_toml_dumps_escapes_and_skips_none():
-    text = cfgmod.toml_dumps({"a": {"s": 'quote " back \\ tab\t', "n": None, "b": True, "i": 3, "f": 1e-7}})
+def test_toml_text_escapes_and_skips_none():
+    text = cfgmod.toml_text({"a": {"s": 'quote " back \\ tab\t', "n": None, "b": True, "i": 3, "f": 1e-7}})
     assert tomllib.loads(text) == {"a": {"s": 'quote " back \\ tab\t', "b": True, "i": 3, "f": 1e-7}}
+
+
+def test_to_toml_has_unit_comments():
+    lines = default_config().to_toml().splitlines()
+    assert "ice_thickness = 0.02  # m" in lines
+    assert "layers = 40" in lines  # dimensionless: no comment
+    assert 'interval = "6h"' in lines
+
+
+def test_every_setting_is_declared_once_in_its_field():
+    for name, cls in cfgmod.SECTIONS.items():
+        for f in dataclasses.fields(cls):
+            param = f.metadata["param"]
+            assert PARAMETERS[f"{name}.{f.name}"] is param
+            assert f.default == param.default
+
+
+def test_durations_and_times_are_parsed_next_to_their_text():
+    cfg = load_config(None, {"run": {"start": "2026-10-01T02:00+02:00"}, "solver": {"max_step": "2h"},
+                             "output": {"interval": "1D"}})
+    assert cfg.solver.max_step_seconds == 7200.0
+    assert cfg.solver.initial_step_seconds == 600.0
+    assert cfg.output.interval_seconds == 86400.0
+    assert cfg.forcing.max_gap_seconds == 21600.0
+    assert cfg.snow.flooding_timescale_seconds == 86400.0
+    assert cfg.run.start_time == np.datetime64("2026-10-01T00:00", "ns")
+    assert cfg.run.end_time is None
+    for name, param in PARAMETERS.items():
+        section, key = name.split(".")
+        companion = {"duration": "_seconds", "time": "_time"}.get(param.kind)
+        if companion:
+            assert hasattr(getattr(cfg, section), key + companion), name
+
+
+def test_column_map_merges_extra_pairs():
+    cfg = load_config(None, {"forcing": {"columns": "air_temperature=T, wind_speed=WS"}})
+    assert cfg.forcing.column_map() == {"air_temperature": "T", "wind_speed": "WS"}
+    assert cfg.forcing.column_map({"wind_speed": "U"}) == {"air_temperature": "T", "wind_speed": "U"}
 
 
 # ---------------------------------------------------------------- timeutil

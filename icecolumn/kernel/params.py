@@ -7,10 +7,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..constants import SECONDS_PER_DAY
 from ..drainage import BRINE_DENSITY_SLOPE, BRINE_THERMAL_DIFFUSIVITY, BRINE_VISCOSITY, PERCOLATION_WIDTH, \
     PERMEABILITY_LAWS, scheme_settings
 from ..properties import CONDUCTIVITY_MODELS, snow_conductivity_of
-from ..timeutil import parse_duration
 from .layout import DRAINAGE_CODES, NPAR, SURFACE_CODES, P
 
 #: Wind speed the energy balance uses when the forcing has no wind_speed (a moderate polar wind;
@@ -48,16 +48,16 @@ def parameter_row(cfg, surface_scheme: str | None = None) -> np.ndarray:
     scheme = surface_scheme if surface_scheme is not None else cfg.surface.scheme
     p[P.SURF] = SURFACE_CODES.get(scheme, SURFACE_CODES["linear"])
     p[P.RTOL] = cfg.solver.rtol
-    p[P.MAXDT] = parse_duration(cfg.solver.max_step)
-    p[P.INITDT] = parse_duration(cfg.solver.initial_step)
+    p[P.MAXDT] = cfg.solver.max_step_seconds
+    p[P.INITDT] = cfg.solver.initial_step_seconds
     p[P.DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
     p[P.TMELT] = SURFACE_MELTING_POINT
     p[P.WIND] = DEFAULT_WIND_SPEED
     p[P.MLD] = cfg.ocean.mixed_layer_depth
     p[P.H0] = cfg.ocean.new_ice_thickness
-    p[P.MLTAU] = cfg.ocean.salinity_restoring_time * 86400.0
+    p[P.MLTAU] = cfg.ocean.salinity_restoring_time * SECONDS_PER_DAY
     p[P.SREF] = cfg.ocean.salinity
-    p[P.FLOODTAU] = parse_duration(cfg.snow.flooding_timescale) if cfg.snow.flooding == "hydrostatic" else 0.0
+    p[P.FLOODTAU] = cfg.snow.flooding_timescale_seconds if cfg.snow.flooding == "hydrostatic" else 0.0
     d = scheme_settings(cfg)
     p[P.DALPHA] = d["flux_coefficient"]
     p[P.DRAC] = d["critical_rayleigh"]

@@ -15,6 +15,7 @@ import xarray as xr
 
 from . import kernel as K
 from .config import Config, default_config
+from .constants import SECONDS_PER_DAY
 from .drainage import DRAINAGE_CODES, drainage_parameters
 from .errors import IceColumnError, InputError
 from .phase import liquidus_temperature_scalar, state_enthalpy
@@ -52,7 +53,6 @@ class RawResult:
     bulk_salinity: np.ndarray
     surface_temperature: np.ndarray
     air_temperature_mean: np.ndarray
-    ocean_heat_flux_mean: np.ndarray
     ocean_heat_flux_source: list
     configs: list
     forcings: list
@@ -86,7 +86,7 @@ def parameter_vector(cfg: Config) -> np.ndarray:
     p[K.P_WIND] = 5.0  # m s-1, used by the energy balance when the forcing has no wind_speed
     p[K.P_MLD] = cfg.ocean.mixed_layer_depth
     p[K.P_H0] = cfg.ocean.new_ice_thickness
-    p[K.P_MLTAU] = cfg.ocean.salinity_restoring_time * 86400.0
+    p[K.P_MLTAU] = cfg.ocean.salinity_restoring_time * SECONDS_PER_DAY
     p[K.P_SREF] = cfg.ocean.salinity
     p[K.P_FLOODTAU] = cfg.snow.flooding_timescale_seconds if cfg.snow.flooding == "hydrostatic" else 0.0
     drainage_parameters(cfg, p)
@@ -367,13 +367,11 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
         if progress is not None:
             progress(it, nt - 1)
     air_mean = np.stack([_interval_mean(ft, fa[i], tsec) for i in range(nm)])
-    fq_used = np.where(np.isfinite(fq), fq, pars[:, K.P_FW][:, None])
-    fq_mean = np.stack([_interval_mean(ft, fq_used[i], tsec) for i in range(nm)])
     fq_source = ["forcing column ocean_heat_flux" if np.isfinite(fq[i]).all() else "configuration [ocean] heat_flux"
                  for i in range(nm)]
     return RawResult(times=times, layers=n, state=state, temperature=temp, liquid_fraction=phi,
                      brine_salinity=sbr, bulk_salinity=sal, surface_temperature=tsurf,
-                     air_temperature_mean=air_mean, ocean_heat_flux_mean=fq_mean,
+                     air_temperature_mean=air_mean,
                      ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
                      forcings=[m.forcing for m in members], counters=counters,
                      extra={"surface_schemes": schemes, "rayleigh_number": rayleigh, "surface_melt_energy": melt_energy,

@@ -6,7 +6,6 @@ mean"``; NaN at the first time).  Cumulative budget terms start at 0.
 """
 from __future__ import annotations
 
-import hashlib
 import os
 from pathlib import Path
 
@@ -16,7 +15,6 @@ import xarray as xr
 from . import kernel as K
 from .constants import SEAWATER_DENSITY
 from ._version import __version__
-from .errors import InputError
 from .textfile import check_new_output, write_atomically
 
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
@@ -285,11 +283,3 @@ def write_netcdf(ds: xr.Dataset, path, overwrite: bool = False) -> Path:
                    "calendar": "standard", "dtype": "float64", "_FillValue": None}
     return write_atomically(path, lambda tmp: ds.to_netcdf(tmp, format="NETCDF4", engine="netcdf4", encoding=enc))
 
-
-def file_sha256(path) -> str:
-    """Hex SHA-256 digest of a file's bytes."""
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for chunk in iter(lambda: f.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()

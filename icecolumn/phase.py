@@ -107,13 +107,6 @@ def liquidus_temperature_scalar(brine_salinity):
 
 
 @njit(cache=True)
-def enthalpy_scalar(temperature, liquid_fraction, rho, c_s, c_l, latent):
-    """Mushy-layer enthalpy per unit volume [J m-3] (reference: liquid at 0 degC)."""
-    phi = liquid_fraction
-    return rho * ((phi * c_l + (1.0 - phi) * c_s) * temperature - (1.0 - phi) * latent)
-
-
-@njit(cache=True)
 def _mush_enthalpy(t, s, rho, c_s, c_l, latent):
     """Enthalpy of mush at temperature t with bulk salinity s, and dH/dT, dH/dS."""
     sbr = brine_salinity_scalar(t)

@@ -23,13 +23,14 @@ the periods equal the run totals.
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
 import xarray as xr
+
+from .texttable import text_table
 
 __all__ = ["brine_budget", "format_brine_budget", "summary", "PERIODS"]
 
-#: Accepted period names -> pandas offset aliases of the calendar period starts.
-PERIODS = {"month": "MS", "week": "W-MON", "day": "D"}
+#: Accepted period names and when each calendar period starts (UTC).
+PERIODS = {"month": "first day of the month, 00:00", "week": "Monday 00:00", "day": "00:00"}
 
 _CUMULATIVE = ("salt_entrained", "salt_released", "salt_released_drainage", "salt_released_melt",
                "salt_content")
@@ -50,17 +51,16 @@ def _period_bounds(times: np.ndarray, period: str) -> tuple[np.ndarray, np.ndarr
     """Indices (into ``times``) of the first and last record of each period."""
     if period not in PERIODS:
         raise ValueError(f"brine budget: period must be one of {', '.join(PERIODS)}, not {period!r}")
-    t0 = pd.Timestamp(times[0])
-    t1 = pd.Timestamp(times[-1])
+    day0 = times[0].astype("datetime64[D]")
+    day1 = times[-1].astype("datetime64[D]")
     if period == "month":
-        first = t0.normalize().replace(day=1)
+        starts = np.arange(day0.astype("datetime64[M]"), day1.astype("datetime64[M]") + 1)
     elif period == "week":
-        first = t0.normalize() - pd.Timedelta(days=t0.day_of_week)
+        monday = day0 - (day0.astype(np.int64) + 3) % 7  # 1970-01-01 was a Thursday
+        starts = np.arange(monday, day1 + 1, 7)
     else:
-        first = t0.normalize()
-    starts = pd.date_range(first, t1, freq=PERIODS[period]).values.astype("datetime64[ns]")
-    if starts.size == 0 or starts[0] > times[0]:
-        starts = np.concatenate([[first.to_datetime64().astype("datetime64[ns]")], starts])
+        starts = np.arange(day0, day1 + 1)
+    starts = starts.astype("datetime64[ns]")  # every calendar start from the first period's on
     # boundary record of each calendar start: the first output time at or after it
     idx = np.searchsorted(times, starts, side="left")
     idx[0] = 0
@@ -128,25 +128,22 @@ def brine_budget(ds: xr.Dataset, period: str = "month") -> xr.Dataset:
 
 
 def format_brine_budget(bds: xr.Dataset) -> str:
-    """Plain-text table of a :func:`brine_budget` Dataset."""
+    """Plain-text table of a :func:`brine_budget` Dataset, with a total row."""
     cols = [("salt_entrained", "entrained"), ("salt_released_drainage", "drainage"),
             ("salt_released_melt", "melt"), ("salt_released", "released"),
             ("salt_kept_change", "kept chg"), ("budget_residual", "residual")]
-    head = f"{'period start':<17} {'period end':<17}" + "".join(f" {lab:>11}" for _, lab in cols) + \
-        f" {'mean flux':>11}"
-    units = f"{'(UTC)':<17} {'(UTC)':<17}" + "".join(f" {'kg m-2':>11}" for _ in cols) + f" {'kg m-2 s-1':>11}"
-    lines = [f"Salt budget per {bds.attrs.get('period', 'period')}", head, units, "-" * len(head)]
+    columns = [("period start", "(UTC)"), ("period end", "(UTC)"), *((lab, "kg m-2") for _, lab in cols),
+               ("mean flux", "kg m-2 s-1")]
+    rows = []
     for i in range(bds.sizes["period"]):
         a = str(bds["period_start"].values[i])[:16].replace("T", " ")
         b = str(bds["period_end"].values[i])[:16].replace("T", " ")
-        row = f"{a:<17} {b:<17}" + "".join(f" {float(bds[v].values[i]):>11.4g}" for v, _ in cols)
-        lines.append(row + f" {float(bds['salt_flux_mean'].values[i]):>11.3e}")
-    tot = "".join(f" {float(bds[v].values.sum()):>11.4g}" for v, _ in cols)
+        rows.append([a, b, *(f"{float(bds[v].values[i]):.4g}" for v, _ in cols),
+                     f"{float(bds['salt_flux_mean'].values[i]):.3e}"])
     secs = float(bds["period_seconds"].values.sum())
     mean = float(bds["salt_released"].values.sum()) / secs if secs > 0 else float("nan")
-    lines.append("-" * len(head))
-    lines.append(f"{'total':<35}" + tot + f" {mean:>11.3e}")
-    return "\n".join(lines) + "\n"
+    total = ["total", "", *(f"{float(bds[v].values.sum()):.4g}" for v, _ in cols), f"{mean:.3e}"]
+    return text_table(columns, rows, footer=total, title=f"Salt budget per {bds.attrs.get('period', 'period')}")
 
 
 def summary(ds: xr.Dataset) -> dict:

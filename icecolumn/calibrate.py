@@ -23,7 +23,6 @@ change), so ``icecolumn run`` and ``icecolumn forecast`` accept the TOML it writ
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,6 +35,8 @@ from .config import Config, default_config
 from .errors import InputError
 from .growth_laws import cumulative_fdd_at
 from .output import CAUTION
+from .textfile import write_text_atomically
+from .texttable import text_table
 
 __all__ = ["FIT_PARAMETERS", "COARSE_INTERVAL", "LEBEDEV_EXPONENT", "CalibrationResult", "calibrate",
            "write_fitted_config", "format_calibration"]
@@ -68,7 +69,6 @@ class CalibrationResult:
     skill: float
     config: Config  # the user's configuration with the fitted values
     dataset: xr.Dataset
-    evaluations: int
 
 
 def _get(cfg: Config, key: str) -> float:
@@ -256,28 +256,21 @@ def calibrate(forcing: xr.Dataset, obs: xr.Dataset, config: Config | None = None
                "observation_file": str(obs.attrs.get("source_file", "<in memory>"))})
     return CalibrationResult(names=names, values=np.asarray(sol.x, float), sigma=sigma, covariance=cov,
                              correlation=corr, rmse=rmse, bias=bias, baseline_coefficient=a,
-                             baseline_rmse=rmse_base, skill=skill, config=fitted, dataset=ds,
-                             evaluations=count[0])
+                             baseline_rmse=rmse_base, skill=skill, config=fitted, dataset=ds)
 
 
 def write_fitted_config(result: CalibrationResult, path, overwrite: bool = False):
-    """Write the fitted configuration as TOML (refuses to overwrite unless asked)."""
-    from pathlib import Path
-
-    path = Path(path)
-    if path.exists() and not overwrite:
-        raise InputError(f"{path}: file exists; use --overwrite to replace it")
+    """Write the fitted configuration as TOML, atomically (refuses to overwrite unless asked)."""
     head = "".join(f"# fitted: {k} = {v:.4g} +/- {s:.2g} {FIT_PARAMETERS[k]['unit']} (1 sigma)\n"
                    for k, v, s in zip(result.names, result.values, result.sigma))
-    path.write_text(head + result.config.to_toml(), encoding="utf-8")
-    return path
+    return write_text_atomically(path, head + result.config.to_toml(), overwrite=overwrite)
 
 
 def format_calibration(result: CalibrationResult) -> str:
     """Text summary of a calibration."""
-    lines = [f"{'parameter':<36}{'value':>10}{'1-sigma':>10}  unit"]
-    for k, v, s in zip(result.names, result.values, result.sigma):
-        lines.append(f"{k:<36}{v:>10.4g}{s:>10.2g}  {FIT_PARAMETERS[k]['unit']}")
+    rows = [[k, f"{v:.4g}", f"{s:.2g}", FIT_PARAMETERS[k]["unit"]]
+            for k, v, s in zip(result.names, result.values, result.sigma)]
+    lines = [text_table([("parameter", ""), ("value", ""), ("1-sigma", ""), ("unit", "")], rows).rstrip("\n")]
     if len(result.names) == 2:
         lines.append(f"correlation: {result.correlation[0, 1]:+.2f}")
     n = result.dataset.sizes["time"]

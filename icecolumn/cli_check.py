@@ -16,12 +16,16 @@ from typing import Annotated, Optional
 import numpy as np
 import typer
 
+from .cli_common import ColumnOpt, ForcingArg, column_map
+from .config import load_config
+from .constants import SECONDS_PER_DAY
 from .errors import InputError
-from .forcing import ForcingWarning, _duration_text, read_forcing
+from .forcing import ForcingWarning, read_forcing
 from .growth_laws import freezing_degree_days
-from .timeutil import format_time
+from .texttable import text_table
+from .timeutil import format_duration, format_time
 
-__all__ = ["register", "check_forcing", "format_check"]
+__all__ = ["COMMANDS", "check_forcing", "format_check"]
 
 
 def check_forcing(path: str | Path, column_map=None, max_gap: str | float = "6h"):
@@ -50,60 +54,56 @@ def format_check(ds, messages: list[str]) -> str:
     """The text printed by ``icecolumn check``."""
     t = ds["time"].values.astype("datetime64[ns]")
     steps = np.diff(t.astype("int64")) / 1e9
-    days = (t[-1] - t[0]) / np.timedelta64(1, "s") / 86400.0
+    days = (t[-1] - t[0]) / np.timedelta64(1, "s") / SECONDS_PER_DAY
     lines = [f"file:        {ds.attrs.get('source_file', '')}"]
     if ds.attrs.get("title"):
         lines.append(f"title:       {ds.attrs['title']}")
     lines += [
         f"period:      {format_time(t[0])} to {format_time(t[-1])} ({days:.2f} days, {t.size} times)",
-        f"time step:   median {_duration_text(float(np.median(steps)))}, min {_duration_text(float(steps.min()))}, "
-        f"max {_duration_text(float(steps.max()))}",
+        f"time step:   median {format_duration(float(np.median(steps)))}, min {format_duration(float(steps.min()))}, "
+        f"max {format_duration(float(steps.max()))}",
         "variables:",
     ]
-    width = max(len(str(v)) for v in ds.data_vars)
+    rows = []
     for var in ds.data_vars:
         values = np.asarray(ds[var].values, dtype=float)
-        unit = ds[var].attrs.get("units", "")
-        lines.append(f"  {str(var):<{width}}  [{unit}]  min {values.min():.4g}  mean {values.mean():.4g}  "
-                     f"max {values.max():.4g}")
+        rows.append([str(var), ds[var].attrs.get("units", ""), f"{values.min():.4g}", f"{values.mean():.4g}",
+                     f"{values.max():.4g}"])
+    table = text_table([("variable", ""), ("units", ""), ("min", ""), ("mean", ""), ("max", "")], rows)
+    lines += ["  " + line for line in table.rstrip("\n").split("\n")]
     if ds.attrs.get("source_columns"):
         lines.append(f"read from:   {ds.attrs['source_columns']}")
     if ds.attrs.get("ignored_columns"):
         lines.append(f"ignored:     {ds.attrs['ignored_columns']}")
     count = int(ds.attrs.get("gaps_filled", 0))
     longest = float(ds.attrs.get("longest_gap_filled", 0.0))
-    lines.append(f"gaps filled: {count}" + (f" (longest {_duration_text(longest)})" if count else ""))
+    lines.append(f"gaps filled: {count}" + (f" (longest {format_duration(longest)})" if count else ""))
     _, fdd = freezing_degree_days(t, ds["air_temperature"].values, base=0.0)
     lines.append(f"freezing degree days (base 0 degC): {float(fdd[-1]):.1f} K day")
     lines += [f"warning: {m}" for m in messages]
     return "\n".join(lines)
 
 
-def register(app: typer.Typer) -> None:
-    """Add the ``check`` command to the application."""
+def check_command(
+    forcing: ForcingArg,
+    columns: ColumnOpt = None,
+    max_gap: Annotated[Optional[str], typer.Option("--max-gap", metavar="DURATION",
+                                                   help="Longest gap filled by linear interpolation "
+                                                        "[default: [forcing] max_gap of --config, or 6h].")] = None,
+    config: Annotated[Optional[Path], typer.Option("-c", "--config", help="Configuration TOML file "
+                                                   "(for [forcing] max_gap and columns).")] = None,
+) -> None:
+    """Check a forcing file and print its period, step, variables, gaps and freezing degree days."""
+    cfg = load_config(config)
+    if max_gap is None:
+        gap: str | float = cfg.forcing.max_gap_seconds
+    elif config is not None:
+        raise InputError("check: give --max-gap or --config, not both")
+    else:
+        gap = max_gap
+    ds, messages = check_forcing(forcing, column_map(cfg, columns), gap)
+    typer.echo(format_check(ds, messages))
 
-    @app.command("check")
-    def check_command(
-        forcing: Annotated[Path, typer.Argument(metavar="FORCING", help="Forcing CSV or CF NetCDF file.",
-                                                show_default=False)],
-        columns: Annotated[Optional[list[str]], typer.Option("--column", metavar="OURS=THEIRS",
-                                                             help="Read our variable from another column or "
-                                                                  "NetCDF variable (repeatable).")] = None,
-        max_gap: Annotated[Optional[str], typer.Option("--max-gap", metavar="DURATION",
-                                                       help="Longest gap filled by linear interpolation "
-                                                            "[default: [forcing] max_gap of --config, or 6h].")]
-        = None,
-        config: Annotated[Optional[Path], typer.Option("-c", "--config", help="Configuration TOML file "
-                                                       "(for [forcing] max_gap and columns).")] = None,
-    ) -> None:
-        """Check a forcing file and print its period, step, variables, gaps and freezing degree days."""
-        from .cli import _column_map
-        from .config import load_config
 
-        cfg = load_config(config)
-        if max_gap is None:
-            max_gap = cfg.forcing.max_gap_seconds
-        elif config is not None:
-            raise InputError("check: give --max-gap or --config, not both")
-        ds, messages = check_forcing(forcing, _column_map(columns, cfg), max_gap)
-        typer.echo(format_check(ds, messages))
+#: Command name -> function, registered by :mod:`icecolumn.cli`.
+COMMANDS = {"check": check_command}

@@ -7,71 +7,72 @@ from typing import Annotated, Optional
 import numpy as np
 import typer
 
-from .errors import InputError
+from .cli_common import ColumnOpt, OverwriteOpt, progress_bar
+from .config import parse_assignments, parse_column_map
 from .output import CAUTION
+from .summary import EnsembleSummary, ensemble_summary
+from .textfile import check_new_output, output_path
+from .texttable import text_table
+from .timeutil import format_time
+
+__all__ = ["COMMANDS", "format_ensemble_summary"]
 
 #: Most members listed one by one in the summary (the rest are summarised).
 SUMMARY_ROWS = 40
 
 
-def _summary(path: Path, n: int) -> str:
-    import xarray as xr
-
-    with xr.open_dataset(path) as ds:
-        names = [str(v) for v in ds["member_name"].values]
-        h_end = ds["ice_thickness"].isel(time=-1).values if "ice_thickness" in ds else np.full(n, np.nan)
-        salt = ds["salt_released"].isel(time=-1).values if "salt_released" in ds else np.full(n, np.nan)
-        t = ds["time"].values
-    width = max(6, *(len(s) for s in names[:SUMMARY_ROWS]))
-    lines = [f"ensemble:       {n} members, {str(t[0])[:16]}Z to {str(t[-1])[:16]}Z",
-             f"output:         {path}", "",
-             f"{'member':{width}s}  {'end thickness m':>15s}  {'salt released kg m-2':>20s}"]
-    for i in range(min(n, SUMMARY_ROWS)):
-        lines.append(f"{names[i]:{width}s}  {h_end[i]:15.3f}  {salt[i]:20.3f}")
+def format_ensemble_summary(s: EnsembleSummary, path: Path) -> str:
+    """The text ``icecolumn ensemble`` prints after a run."""
+    n = len(s.names)
+    rows = [[s.names[i], f"{s.thickness_end[i]:.3f}", f"{s.salt_released[i]:.3f}"] for i in range(min(n, SUMMARY_ROWS))]
+    table = text_table([("member", ""), ("end thickness", "m"), ("salt released", "kg m-2")], rows)
+    lines = [f"ensemble:       {n} members, {format_time(s.start, 'm')} to {format_time(s.end, 'm')}",
+             f"output:         {path}", "", table.rstrip("\n")]
     if n > SUMMARY_ROWS:
         lines.append(f"... {n - SUMMARY_ROWS} more members")
-    if n > 1 and np.isfinite(h_end).any():
-        lines.append(f"{'min/median/max':{width}s}  end thickness {np.nanmin(h_end):.3f} / {np.nanmedian(h_end):.3f} / "
-                     f"{np.nanmax(h_end):.3f} m")
+    h = s.thickness_end
+    if n > 1 and np.isfinite(h).any():
+        lines.append(f"end thickness min / median / max: {np.nanmin(h):.3f} / {np.nanmedian(h):.3f} / "
+                     f"{np.nanmax(h):.3f} m")
     lines += ["", CAUTION]
     return "\n".join(lines)
 
 
-def register(app: typer.Typer) -> None:
-    """Add the ``ensemble`` command to ``app``."""
-    from .cli import ProgressBar
+def ensemble_command(
+    spec: Annotated[Path, typer.Argument(metavar="SPEC.toml", help="Ensemble spec (TOML): base config, "
+                                         "forcing, [[member]] tables and/or a [sweep].", show_default=False)],
+    output: Annotated[Optional[Path], typer.Option("-o", "--output",
+                                                   help="Output NetCDF file (or a folder for it) [default: "
+                                                        "<spec stem>.nc].")] = None,
+    overwrite: OverwriteOpt = False,
+    assignments: Annotated[Optional[list[str]], typer.Option("--set", metavar="SECTION.KEY=VALUE",
+                                                             help="Override one setting of the base "
+                                                                  "configuration (repeatable; members and sweeps "
+                                                                  "still change settings on top).")] = None,
+    columns: ColumnOpt = None,
+    workers: Annotated[Optional[int], typer.Option("--workers", min=1, help="Local worker processes (with "
+                                                   "--dask: LocalCluster workers).")] = None,
+    scheduler: Annotated[Optional[str], typer.Option("--scheduler", metavar="ADDRESS",
+                                                     help="dask scheduler address, e.g. tcp://host:8786.")] = None,
+    use_dask: Annotated[bool, typer.Option("--dask", help="Run on dask.distributed (a LocalCluster unless "
+                                           "--scheduler is given).")] = False,
+    batch_size: Annotated[int, typer.Option("--batch-size", min=1, help="Members per batch.")] = 256,
+) -> None:
+    """Run an ensemble of columns and write one NetCDF file with a member dimension."""
+    from .ensemble import load_spec
+    from .output_io import open_output
 
-    @app.command("ensemble")
-    def ensemble_command(
-        spec: Annotated[Path, typer.Argument(metavar="SPEC.toml", help="Ensemble spec (TOML): base config, "
-                                             "forcing, [[member]] tables and/or a [sweep].", show_default=False)],
-        output: Annotated[Optional[Path], typer.Option("-o", "--output",
-                                                       help="Output NetCDF file [default: <spec stem>.nc].")] = None,
-        overwrite: Annotated[bool, typer.Option("--overwrite", help="Replace an existing output file.")] = False,
-        workers: Annotated[Optional[int], typer.Option("--workers", min=1, help="Local worker processes (with "
-                                                       "--dask: LocalCluster workers).")] = None,
-        scheduler: Annotated[Optional[str], typer.Option("--scheduler", metavar="ADDRESS",
-                                                         help="dask scheduler address, e.g. tcp://host:8786.")]
-        = None,
-        use_dask: Annotated[bool, typer.Option("--dask", help="Run on dask.distributed (a LocalCluster unless "
-                                               "--scheduler is given).")] = False,
-        batch_size: Annotated[int, typer.Option("--batch-size", min=1, help="Members per batch.")] = 256,
-    ) -> None:
-        """Run an ensemble of columns and write one NetCDF file with a member dimension."""
-        from .ensemble import load_spec
+    out = output_path(output, f"{spec.stem}.nc")
+    check_new_output(out, overwrite)
+    ens = load_spec(spec, overrides=parse_assignments(assignments),
+                    column_map=parse_column_map(",".join(columns or []), "--column"))
+    with progress_bar() as bar:
+        ens.run_to_file(out, overwrite=overwrite, batch_size=batch_size, workers=workers,
+                        scheduler=scheduler, use_dask=use_dask, progress=bar)
+    with open_output(out, load=False) as ds:
+        summary = ensemble_summary(ds)
+    typer.echo(format_ensemble_summary(summary, out))
 
-        out = output if output is not None else Path(f"{spec.stem}.nc")
-        if out.is_dir():
-            out = out / f"{spec.stem}.nc"
-        if out.exists() and not overwrite:
-            raise InputError(f"{out}: file exists; use --overwrite to replace it")
-        if not (out.parent if str(out.parent) else Path(".")).is_dir():
-            raise InputError(f"{out}: folder {out.parent} does not exist")
-        ens = load_spec(spec)
-        bar = ProgressBar()
-        try:
-            ens.run_to_file(out, overwrite=overwrite, batch_size=batch_size, workers=workers,
-                            scheduler=scheduler, use_dask=use_dask, progress=bar)
-        finally:
-            bar.close()
-        typer.echo(_summary(out, len(ens.members)))
+
+#: Command name -> function, registered by :mod:`icecolumn.cli`.
+COMMANDS = {"ensemble": ensemble_command}

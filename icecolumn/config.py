@@ -45,7 +45,7 @@ except ModuleNotFoundError:  # Python < 3.11
 from . import constants as C
 from .errors import InputError
 from .textfile import read_user_text
-from .timeutil import parse_duration, parse_time
+from .timeutil import format_duration, parse_duration, parse_time
 
 __all__ = [
     "Param",
@@ -71,8 +71,11 @@ __all__ = [
     "load_config",
     "config_from_toml_text",
     "parse_assignment",
+    "parse_assignments",
     "parse_column_map",
+    "parse_toml",
     "parameters_markdown",
+    "toml_text",
 ]
 
 #: Names accepted by ``[surface] scheme``.
@@ -158,9 +161,7 @@ def _unit_suffix(unit: str) -> str:
 def _fmt_bound(value: float | None, kind: str) -> str:
     if value is None:
         return ""
-    if kind == "duration":
-        return f"{value / 60:g}min"
-    return f"{value:g}"
+    return format_duration(value) if kind == "duration" else f"{value:g}"
 
 
 def _show(value: Any) -> str:
@@ -303,8 +304,7 @@ def _seconds_of(name: str) -> property:
     def get(self) -> float:
         return parse_duration(getattr(self, name))
 
-    get.__doc__ = f"``{name}`` in seconds [s]."
-    return property(get)
+    return property(get, doc=f"``{name}`` in seconds [s].")
 
 
 def _time_of(name: str) -> property:
@@ -312,8 +312,7 @@ def _time_of(name: str) -> property:
         text = getattr(self, name)
         return None if text is None else parse_time(text)
 
-    get.__doc__ = f"``{name}`` as numpy.datetime64[ns] UTC, or None when unset."
-    return property(get)
+    return property(get, doc=f"``{name}`` as numpy.datetime64[ns] UTC, or None when unset.")
 
 
 #: Suffix of the parsed companion of each kind of setting (see the module docstring).
@@ -561,7 +560,11 @@ class Config:
         **changes
             New values by key, e.g. ``layers=80``. [units of each key]
         """
-        return _build(self.to_dict(), [("Config.replace", {section: changes})])
+        return self.updated({section: changes}, "Config.replace")
+
+    def updated(self, overrides: dict[str, dict[str, Any]], source: str = "override") -> Config:
+        """A copy with ``{section: {key: value}}`` applied (validated; errors name ``source``)."""
+        return _build(self.to_dict(), [(source, overrides)])
 
 
 #: Section name -> section dataclass, in TOML order (derived from :class:`Config`).

@@ -42,7 +42,6 @@ import hashlib
 import itertools
 import multiprocessing
 import os
-import tempfile
 from collections import deque
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -56,7 +55,7 @@ from . import model
 from .errors import IceColumnError, InputError
 from .forcing import read_forcing
 from .output import to_dataset, write_netcdf
-from .textfile import check_new_output, read_user_text
+from .textfile import check_new_output, read_user_text, write_atomically
 
 __all__ = ["EnsembleSpec", "load_spec", "run_members", "run_members_to_file", "output_variable_names",
            "SCALE_HINT"]
@@ -156,13 +155,21 @@ def _value_text(value: Any) -> str:
     return f"{value:g}" if isinstance(value, float) else str(value)
 
 
-def load_spec(path) -> EnsembleSpec:
+def load_spec(path, overrides: dict[str, dict[str, Any]] | None = None,
+              column_map: dict[str, str] | None = None) -> EnsembleSpec:
     """Read an ensemble spec (TOML) and build every member.
 
     Parameters
     ----------
     path : str or pathlib.Path
         The spec file; file names inside it are relative to its folder. [1]
+    overrides : dict, optional
+        ``{section: {key: value}}`` applied to the base configuration after the spec's
+        top-level ``set`` (members and sweeps still change settings on top of it), e.g.
+        from the command line's ``--set``. [units of each key]
+    column_map : dict, optional
+        Forcing column names ``{ours: theirs}`` added to the base configuration's
+        ``[forcing] columns`` (e.g. from ``--column``). [1]
 
     Returns
     -------
@@ -177,10 +184,7 @@ def load_spec(path) -> EnsembleSpec:
     src = str(path)
     spec_dir = Path(path).resolve().parent
     text, _ = read_user_text(path, "ensemble spec")
-    try:
-        data = C.tomllib.loads(text)
-    except C.tomllib.TOMLDecodeError as err:
-        raise InputError(f"{src}: not valid TOML: {' '.join(str(err).split())}") from None
+    data = C.parse_toml(text, src)
     for key in data:
         if key not in _SPEC_KEYS:
             raise InputError(f"{src}: unknown key {key!r}; {_hint(key, _SPEC_KEYS)}")
@@ -189,6 +193,8 @@ def load_spec(path) -> EnsembleSpec:
     if "config" in data:
         base = C.load_config(_resolve(spec_dir, data["config"], src, "config"))
     base = _apply_settings(base, _flatten_settings(data.get("set", {}), f"{src}: set"), f"{src}: set")
+    if overrides:
+        base = base.updated(overrides)
 
     out = data.get("output", {})
     if not isinstance(out, dict):
@@ -230,7 +236,8 @@ def load_spec(path) -> EnsembleSpec:
         if not p.is_file():
             raise InputError(f"{where}: forcing file {str(text_)!r} not found (looked for {p})")
         if p not in forcing_cache:
-            forcing_cache[p] = read_forcing(p, base.forcing.column_map(), max_gap=base.forcing.max_gap_seconds)
+            forcing_cache[p] = read_forcing(p, base.forcing.column_map(column_map),
+                                            max_gap=base.forcing.max_gap_seconds)
         return forcing_cache[p]
 
     listed = raw_members or [{}]
@@ -612,38 +619,35 @@ def run_members_to_file(members: Sequence[model.Member], path, *, overwrite: boo
     import netCDF4
 
     path = Path(path)
-    folder = check_new_output(path, overwrite)
+    check_new_output(path, overwrite)
     members, names, jobs, variables, runner, tick, finish = _run_common(
         members, names, batch_size, workers, scheduler, use_dask, processes, progress, variables, interval, source)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    accepted = rejected = 0
-    nc = None
-    try:
-        for idx, ds in runner.run(jobs, variables, tick):
-            accepted += int(ds.attrs["solver_steps_accepted"])
-            rejected += int(ds.attrs["solver_steps_rejected"])
-            if nc is None:  # the first batch defines the file layout (member is unlimited)
-                first = ds.copy()
-                first.encoding["unlimited_dims"] = {"member"}
-                _finish_attrs(first, 0, 0, len(members), source)
-                write_netcdf(first, tmp, overwrite=True)
-                nc = netCDF4.Dataset(tmp, "a")
-                nc.set_auto_mask(False)
-            _write_rows(nc, idx, ds)
-            nc.sync()
-            finish(len(idx))
-        nc.setncattr("solver_steps_accepted", np.int64(accepted))
-        nc.setncattr("solver_steps_rejected", np.int64(rejected))
-        nc.close()
+
+    def stream(tmp: str) -> None:
+        accepted = rejected = 0
         nc = None
-        os.replace(tmp, path)
-    except BaseException:
-        if nc is not None:
-            nc.close()
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+        try:
+            for idx, ds in runner.run(jobs, variables, tick):
+                accepted += int(ds.attrs["solver_steps_accepted"])
+                rejected += int(ds.attrs["solver_steps_rejected"])
+                if nc is None:  # the first batch defines the file layout (member is unlimited)
+                    first = ds.copy()
+                    first.encoding["unlimited_dims"] = {"member"}
+                    _finish_attrs(first, 0, 0, len(members), source)
+                    write_netcdf(first, tmp, overwrite=True)
+                    nc = netCDF4.Dataset(tmp, "a")
+                    nc.set_auto_mask(False)
+                _write_rows(nc, idx, ds)
+                nc.sync()
+                finish(len(idx))
+            nc.setncattr("solver_steps_accepted", np.int64(accepted))
+            nc.setncattr("solver_steps_rejected", np.int64(rejected))
+        finally:
+            if nc is not None:
+                nc.close()
+
+    try:
+        write_atomically(path, stream, suffix=".part")
     finally:
         runner.close()
     return path

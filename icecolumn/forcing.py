@@ -57,7 +57,6 @@ and the physical line (1-based) or the variable.
 
 from __future__ import annotations
 
-import csv
 import datetime as _dt
 import hashlib
 import math
@@ -71,8 +70,8 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .textfile import read_user_bytes, read_user_text
-from .timeutil import format_time, parse_duration, parse_times
+from .textfile import read_csv, read_user_bytes
+from .timeutil import format_duration, format_time, parse_duration, parse_times
 
 __all__ = [
     "VARIABLES",
@@ -235,14 +234,6 @@ def _unit_text(unit: str) -> str:
     return "" if unit == "1" else f" {unit}"
 
 
-def _duration_text(seconds: float) -> str:
-    """Short text of a duration, e.g. ``"6h"``, ``"90min"``, ``"2D"``, ``"1.5s"``."""
-    for size, unit in ((86400.0, "D"), (3600.0, "h"), (60.0, "min")):
-        if seconds >= size and float(seconds / size).is_integer():
-            return f"{int(seconds // size)}{unit}"
-    return f"{seconds:g}s"
-
-
 def _max_gap_seconds(max_gap: Any, name: str) -> float:
     """``max_gap`` as seconds: a number of seconds (>= 0) or a duration text."""
     if isinstance(max_gap, str):
@@ -316,73 +307,25 @@ def read_forcing(
     if is_netcdf(path):
         return read_forcing_netcdf(path, column_map, max_gap=max_gap)
     gap_s = _max_gap_seconds(max_gap, name)
-    text, raw = read_user_text(path, "forcing file")
-
-    lines = text.split("\n")
-    comments: list[str] = []
-    header_no = 0  # 1-based physical line of the header
-    for no, line in enumerate(lines, start=1):
-        stripped = line.strip()
-        if not stripped:
-            continue
-        if stripped.startswith("#"):
-            comments.append(stripped.lstrip("#").strip())
-            continue
-        header_no = no
-        break
-    if header_no == 0:
-        raise InputError(f"{name}: file is empty" if not comments else f"{name}: no header row (only comments)")
-
-    columns = [c.strip() for c in _split(lines[header_no - 1], name, header_no)]
-    for j, col in enumerate(columns):
-        if not col:
-            raise InputError(f"{name}: line {header_no}: column {j + 1} of the header has no name")
-        if col in columns[:j]:
-            raise InputError(f"{name}: line {header_no}: column name {col!r} appears twice")
-
-    file_col = _resolve_columns(columns, column_map, name, header_no)
-    ignored = [c for c in columns if c not in file_col.values()]
-
-    numbers: list[int] = []
-    rows: list[list[str]] = []
-    for no in range(header_no + 1, len(lines) + 1):
-        line = lines[no - 1]
-        stripped = line.strip()
-        if not stripped or stripped.startswith("#"):
-            continue
-        cells = _split(line, name, no)
-        if len(cells) != len(columns):
-            raise InputError(
-                f"{name}: line {no}: expected {len(columns)} fields as in the header (line {header_no}), "
-                f"found {len(cells)}"
-            )
-        numbers.append(no)
-        rows.append(cells)
-    if not rows:
-        raise InputError(f"{name}: no data rows after the header (line {header_no})")
+    table = read_csv(path, "forcing file")
+    file_col = _resolve_columns(table.header, column_map, name, table.header_line)
+    ignored = [c for c in table.header if c not in file_col.values()]
 
     def label(i: int) -> str:
-        return f"line {numbers[i]}"
+        return f"line {table.lines[i]}"
 
-    def column_text(var: str) -> list[str]:
-        j = columns.index(file_col[var])
-        return [cells[j].strip() for cells in rows]
-
-    time_texts = column_text("time")
+    time_texts = table.column(file_col["time"])
     for i, t in enumerate(time_texts):
         if not t:
             raise InputError(f"{name}: {label(i)}: column {file_col['time']!r} is empty")
     times = parse_times(time_texts, lambda i: f"{label(i)}: column {file_col['time']!r}", name)
     _check_years(time_texts, name, label, f"column {file_col['time']!r}")
-    data = {}
-    for var in VARIABLES:
-        if var in file_col:
-            data[var] = _to_float(column_text(var), name, label, file_col[var])
+    data = {var: table.numbers(file_col[var], empty_is_gap=True) for var in VARIABLES if var in file_col}
     where = {var: "column " + _shown(file_col[var], var) for var in data}
     attrs = {
         "source_file": name,
-        "sha256": hashlib.sha256(raw).hexdigest(),
-        "title": comments[0] if comments else "",
+        "sha256": hashlib.sha256(table.raw).hexdigest(),
+        "title": table.comments[0] if table.comments else "",
         "ignored_columns": ",".join(ignored),
         "source_columns": ",".join(f"{v}={file_col[v]}" for v in ("time", *data)),
     }
@@ -391,17 +334,6 @@ def read_forcing(
 
 def _shown(column: str, var: str) -> str:
     return f"{column!r}" + (f" ({var})" if column != var else "")
-
-
-def _split(line: str, name: str, no: int) -> list[str]:
-    """Fields of one CSV line (quotes honoured when present)."""
-    line = line.rstrip("\r")
-    if '"' not in line:
-        return line.split(",")
-    try:
-        return next(csv.reader([line], strict=True))
-    except (csv.Error, StopIteration) as err:
-        raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
 
 
 def _resolve_columns(columns: list[str], column_map: Mapping[str, str] | None, name: str, header_no: int) -> dict[str, str]:
@@ -437,30 +369,6 @@ def _check_years(texts: list[str], name: str, label: Callable[[int], str], what:
         m = _YEAR.match(t)
         if m and not lo <= int(m.group(1)) <= hi:
             raise InputError(f"{name}: {label(i)}: {what}: {t!r}: year outside the supported {lo}..{hi}")
-
-
-def _to_float(texts: list[str], name: str, label: Callable[[int], str], column: str) -> np.ndarray:
-    """Numbers of a column; empty cells become NaN (gaps), texts like 'nan' stay non-finite."""
-    empty = np.array([not t for t in texts], dtype=bool)
-    filled = ["nan" if not t else t for t in texts] if empty.any() else texts
-    try:
-        values = np.array(filled, dtype=np.float64)
-    except (ValueError, OverflowError):
-        values = None
-    if values is None:
-        for i, t in enumerate(texts):
-            if not t:
-                continue
-            try:
-                float(t)
-            except (ValueError, OverflowError):
-                raise InputError(f"{name}: {label(i)}: column {column!r}: {t!r} is not a number") from None
-        raise InputError(f"{name}: column {column!r}: values are not numbers")  # pragma: no cover
-    nonfinite = ~np.isfinite(values) & ~empty
-    if nonfinite.any():
-        i = int(np.flatnonzero(nonfinite)[0])
-        raise InputError(f"{name}: {label(i)}: column {column!r}: {float(values[i])!r} is not a finite number")
-    return values
 
 
 # --------------------------------------------------------------------------- shared checks and gap filling
@@ -500,9 +408,9 @@ def _build_dataset(
             if seconds > max_gap:
                 raise InputError(
                     f"{name}: {label(k)}: no rows from {format_time(times[k])} to {format_time(times[k + 1])} "
-                    f"({label(k + 1)}) in any column: a gap of {_duration_text(seconds)}, longer than "
-                    f"max_gap = {_duration_text(max_gap) if max_gap else '0s'} (median step "
-                    f"{_duration_text(typical / 1e9)})"
+                    f"({label(k + 1)}) in any column: a gap of {format_duration(seconds)}, longer than "
+                    f"max_gap = {format_duration(max_gap) if max_gap else '0s'} (median step "
+                    f"{format_duration(typical / 1e9)})"
                 )
             gaps.append((seconds, k, k + 1, "every column"))
     variables = {}
@@ -560,8 +468,8 @@ def _build_dataset(
                 if seconds > max_gap:
                     raise InputError(
                         f"{name}: {label(a + 1)}: {shown}: no value from {format_time(times[a])} ({label(a)}) to "
-                        f"{format_time(times[b])} ({label(b)}): a gap of {_duration_text(seconds)}, longer than "
-                        f"max_gap = {_duration_text(max_gap) if max_gap else '0s'}"
+                        f"{format_time(times[b])} ({label(b)}): a gap of {format_duration(seconds)}, longer than "
+                        f"max_gap = {format_duration(max_gap) if max_gap else '0s'}"
                     )
                 gaps.append((seconds, a, b, shown))
             values = values.copy()
@@ -572,8 +480,8 @@ def _build_dataset(
         count = len(gaps)
         notes.insert(0, (
             f"{name}: filled {count} gap{'s' if count != 1 else ''} by linear interpolation in time (longest "
-            f"{_duration_text(longest[0])}, {format_time(times[longest[1]])} to {format_time(times[longest[2]])} "
-            f"in {longest[3]}; max_gap = {_duration_text(max_gap)})"
+            f"{format_duration(longest[0])}, {format_time(times[longest[1]])} to {format_time(times[longest[2]])} "
+            f"in {longest[3]}; max_gap = {format_duration(max_gap)})"
         ))
     attrs = dict(attrs)
     attrs["gaps_filled"] = len(gaps)

@@ -42,13 +42,17 @@ import xarray as xr
 
 from . import model
 from .config import Config, default_config
+from .constants import SECONDS_PER_DAY
 from .errors import InputError
 from .forcing import forcing_from_arrays
 from .output import CAUTION, to_dataset
+from .profiles import FIRST_YEAR_SALINITY_SOURCE, CoreReading, ThermistorReading, first_year_salinity
+from .texttable import text_table
 from .timeutil import parse_time
 
 __all__ = ["PERTURBATIONS", "PERCENTILES", "BLEND_DAYS", "MIN_SEASONS", "ForecastMembers",
-           "build_forecast_members", "run_forecast", "exceedance", "analog_years", "default_until"]
+           "build_forecast_members", "run_forecast", "exceedance", "analog_years", "default_until",
+           "initial_profile", "check_thickness"]
 
 #: Perturbed quantities: config key, distribution and its parameters, unit, source.
 PERTURBATIONS: dict[str, dict] = {
@@ -142,6 +146,36 @@ def analog_years(history: xr.Dataset, start, until, leave_out: int | None = None
     return out
 
 
+def initial_profile(ice_thickness: float, thermistor: ThermistorReading | None = None,
+                    core: CoreReading | None = None) -> tuple[model.InitialProfile, list[str]]:
+    """Build the model's initial profile and a list of notes saying what was used.
+
+    Temperature: thermistor readings inside the ice (the model interpolates them to its
+    layers and holds them constant beyond the first and last sensor), else ``None`` (the
+    model's default linear profile).  Salinity: core sections at their mid-depths, else
+    the uniform :func:`first_year_salinity` of this thickness.
+    """
+    notes = []
+    prof = model.InitialProfile()
+    if thermistor is not None:
+        prof.depth = np.asarray(thermistor.depth, float)
+        prof.temperature = np.asarray(thermistor.temperature, float)
+        notes.append(thermistor.summary())
+    else:
+        notes.append("temperature: model default (linear from the surface to the freezing point)")
+    if core is not None:
+        prof.salinity_depth = np.asarray(core.depth, float)
+        prof.salinity = np.asarray(core.salinity, float)
+        notes.append(f"{core.source}: salinity from {core.depth.size} core sections")
+    else:
+        s = first_year_salinity(ice_thickness)
+        prof.salinity_depth = np.array([0.0, max(ice_thickness, 1e-3)])
+        prof.salinity = np.array([s, s])
+        notes.append(f"salinity: uniform {s:.2f} g/kg, first-year depth-mean for {ice_thickness:g} m "
+                     f"({FIRST_YEAR_SALINITY_SOURCE})")
+    return prof, notes
+
+
 @dataclass
 class ForecastMembers:
     """Everything needed to run a forecast ensemble, and how members were made."""
@@ -160,7 +194,7 @@ class ForecastMembers:
     notes: list = field(default_factory=list)
 
 
-def _check_thickness(value: float, what: str) -> float:
+def check_thickness(value: float, what: str) -> float:
     v = float(value)
     if not math.isfinite(v) or v < 0.0:
         raise InputError(f"{what}: {value!r} m must be a finite number >= 0")
@@ -182,8 +216,8 @@ def _weather_blend(times: np.ndarray, analog: np.ndarray, weather: xr.Dataset, s
     inside = x <= end
     out[inside] = np.interp(x[inside], wx, wv)
     offset = float(wv[-1]) - float(np.interp(end, x, analog))
-    blend = (x > end) & (x < end + BLEND_DAYS * 86400.0)
-    out[blend] = analog[blend] + offset * (1.0 - (x[blend] - end) / (BLEND_DAYS * 86400.0))
+    blend = (x > end) & (x < end + BLEND_DAYS * SECONDS_PER_DAY)
+    out[blend] = analog[blend] + offset * (1.0 - (x[blend] - end) / (BLEND_DAYS * SECONDS_PER_DAY))
     return out
 
 
@@ -216,10 +250,10 @@ def build_forecast_members(history: xr.Dataset, start, *, ice_thickness: float, 
     u = default_until(s) if until is None else _time(until, "until")
     if not u > s:
         raise InputError(f"until: {str(u)[:16]} must be after the start {str(s)[:16]}")
-    h0 = _check_thickness(ice_thickness, "ice thickness")
+    h0 = check_thickness(ice_thickness, "ice thickness")
     if h0 < 0.01:
         raise InputError(f"ice thickness: {h0:g} m is less than the model's smallest start thickness 0.01 m")
-    hs0 = _check_thickness(snow_thickness, "snow thickness")
+    hs0 = check_thickness(snow_thickness, "snow thickness")
     if not isinstance(members, (int, np.integer)) or members < 1:
         raise InputError(f"members: {members!r} must be a whole number >= 1")
     t = history["time"].values.astype("datetime64[ns]")
@@ -391,10 +425,10 @@ def summary_table(ds: xr.Dataset, every_days: int = 7) -> str:
     p = ds["ice_thickness_percentile"]
     lo, med, hi = (np.asarray(p.sel(percentile=q).values, float) for q in (5.0, 50.0, 95.0))
     step = np.timedelta64(every_days, "D")
-    rows = [f"{'date':<12}{'median [m]':>12}{'5-95 % [m]':>18}"]
+    rows = []
     target = t[0]
     for i, ti in enumerate(t):
         if ti >= target or i == t.size - 1:
-            rows.append(f"{str(ti)[:10]:<12}{med[i]:>12.2f}{lo[i]:>10.2f} - {hi[i]:.2f}")
+            rows.append([str(ti)[:10], f"{med[i]:.2f}", f"{lo[i]:.2f}", f"{hi[i]:.2f}"])
             target = ti + step
-    return "\n".join(rows)
+    return text_table([("date", "UTC"), ("median", "m"), ("5 %", "m"), ("95 %", "m")], rows)

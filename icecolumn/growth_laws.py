@@ -41,6 +41,7 @@ from collections.abc import Callable
 import numpy as np
 from scipy.optimize import curve_fit
 
+from icecolumn.constants import SECONDS_PER_DAY
 from icecolumn.errors import InputError
 
 __all__ = [
@@ -62,9 +63,7 @@ __all__ = [
     "thickness_from",
 ]
 
-#: Seconds in one day [s].
-SECONDS_PER_DAY = 86400.0
-_DAY_NS = 86_400 * 10**9
+_DAY_NS = int(SECONDS_PER_DAY) * 10**9
 
 # Warmest air temperature accepted [degC]; anything hotter is almost surely kelvin.
 _MAX_AIR_TEMPERATURE_C = 100.0

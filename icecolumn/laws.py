@@ -11,13 +11,16 @@ thickness.  Formulas and sources are in :mod:`icecolumn.growth_laws`.
 from __future__ import annotations
 
 import csv
-import os
-import tempfile
+from typing import Any
 
 import numpy as np
 import xarray as xr
 
+from icecolumn.config import config_from_toml_text
+from icecolumn.constants import SECONDS_PER_DAY
 from icecolumn.errors import InputError
+from icecolumn.textfile import check_new_output, write_atomically
+from icecolumn.texttable import text_table
 from icecolumn.growth_laws import (
     LAW_BASE_TEMPERATURE,
     LAW_REFERENCE,
@@ -28,7 +31,8 @@ from icecolumn.growth_laws import (
     thickness_from,
 )
 
-__all__ = ["laws_table", "format_laws_table", "write_laws_csv", "fit_observations"]
+__all__ = ["laws_table", "format_laws_table", "write_laws_csv", "fit_observations", "laws_for_run",
+           "air_from_run", "run_surface_coefficient", "fit_table_to_observations", "RUN_VARIABLES"]
 
 _LAW_LABEL = {
     "stefan": "Stefan's law",
@@ -232,7 +236,7 @@ def _select_rows(times: np.ndarray, every: str) -> np.ndarray:
     n = times.size
     t = times.astype("datetime64[ns]").astype(np.int64)
     if every == "week":
-        step = 7 * 86_400 * 10**9
+        step = int(7 * SECONDS_PER_DAY) * 10**9
         idx = [i for i in range(n) if (t[i] - t[0]) % step == 0]
     elif every == "month":
         ts = times.astype("datetime64[ns]")
@@ -284,33 +288,21 @@ def format_laws_table(ds: xr.Dataset, every: str = "week") -> str:
                 v = float(ds[name].values[i])
                 line.append("nan" if not np.isfinite(v) else fmt.format(v))
         cells.append(line)
-    header = [c[0] for c in columns]
-    units = [c[1] for c in columns]
-    widths = [max(len(header[j]), len(units[j]), *(len(r[j]) for r in cells))
-              for j in range(len(columns))]
-
-    def join(items):
-        out = [items[0].ljust(widths[0])]
-        out += [s.rjust(w) for s, w in zip(items[1:], widths[1:])]
-        return "  ".join(out).rstrip()
-
-    lines = [f"# bases: {ds.attrs.get('base_temperatures', '')}",
-             f"# Stefan: {ds.attrs.get('stefan_form', '')}",
-             f"# initial thickness: {ds.attrs.get('initial_thickness_m', 0.0):g} m",
-             join(header), join(units), "  ".join("-" * w for w in widths)]
-    lines += [join(r) for r in cells]
-    return "\n".join(lines) + "\n"
+    head = (f"# bases: {ds.attrs.get('base_temperatures', '')}\n"
+            f"# Stefan: {ds.attrs.get('stefan_form', '')}\n"
+            f"# initial thickness: {ds.attrs.get('initial_thickness_m', 0.0):g} m\n")
+    return head + text_table([(name, unit) for name, unit, _ in columns], cells)
 
 
-def write_laws_csv(ds: xr.Dataset, path) -> None:
+def write_laws_csv(ds: xr.Dataset, path, overwrite: bool = False) -> None:
     """Write the full daily table of :func:`laws_table` as CSV, atomically.
 
     Columns: ``time`` (ISO 8601 UTC, e.g. ``2024-01-01T00:00:00Z``), ``fdd``
     or ``fdd_stefan, fdd_lebedev, fdd_anderson, fdd_zubov`` [K day],
     ``stefan, lebedev, anderson, zubov`` [m] and ``model`` [m] when present
-    (empty field where the model has no value).  The file is written to a
-    temporary file in the same directory and moved into place with
-    :func:`os.replace`.
+    (empty field where the model has no value).  An existing file is replaced only
+    with ``overwrite`` (:func:`icecolumn.textfile.check_new_output`); the file is
+    written by :func:`icecolumn.textfile.write_atomically`.
 
     Parameters
     ----------
@@ -318,31 +310,24 @@ def write_laws_csv(ds: xr.Dataset, path) -> None:
         Output of :func:`laws_table`.
     path : str or os.PathLike
         Destination file.
+    overwrite : bool
+        Replace an existing file.
     """
-    path = os.fspath(path)
-    directory = os.path.dirname(os.path.abspath(path))
-    if not os.path.isdir(directory):
-        raise InputError(f"{path}: directory {directory} does not exist")
+    check_new_output(path, overwrite)
     names = _fdd_names(ds) + list(LAWS) + (["model"] if "model" in ds else [])
     values = [np.asarray(ds[n].values, dtype=float) for n in names]
     times = ds["time"].values
-    fd, tmp = tempfile.mkstemp(prefix=".laws-", suffix=".csv.tmp", dir=directory)
-    try:
-        with os.fdopen(fd, "w", newline="", encoding="utf-8") as fh:
+
+    def write(tmp: str) -> None:
+        with open(tmp, "w", newline="", encoding="utf-8") as fh:
             writer = csv.writer(fh, lineterminator="\n")
             writer.writerow(["time", *names])
             for i in range(times.size):
                 row = [_iso(times[i])]
-                row += ["" if not np.isfinite(v[i]) else repr(float(v[i]))
-                        for v in values]
+                row += ["" if not np.isfinite(v[i]) else repr(float(v[i])) for v in values]
                 writer.writerow(row)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+
+    write_atomically(path, write, suffix=".csv.tmp")
 
 
 def fit_observations(fdd_at_obs, thickness_obs) -> dict:
@@ -376,3 +361,93 @@ def fit_observations(fdd_at_obs, thickness_obs) -> dict:
     rmse = float(np.sqrt(np.mean(resid**2)))
     return {"a": a, "b": b, "sigma_a": sigma_a, "sigma_b": sigma_b,
             "corr": corr, "rmse": rmse}
+
+
+# --------------------------------------------------------------------------- runs and observations
+
+#: What a run output needs for the growth-law comparison (:func:`air_from_run`, :func:`laws_for_run`).
+RUN_VARIABLES = ("ice_thickness", "air_temperature")
+
+
+def air_from_run(ds: xr.Dataset) -> tuple[np.ndarray, np.ndarray]:
+    """Air temperature samples from a run output.
+
+    The output's ``air_temperature`` holds means over the interval ending at each
+    time (NaN at the first time).  Each mean is placed at the middle of its
+    interval, and the first and last means are repeated at the run start and end,
+    so the piecewise-linear curve through these samples has the same time
+    integral as the interval means.
+
+    Returns
+    -------
+    time : ndarray of datetime64[ns]
+        Sample times. [UTC]
+    air_temperature : ndarray
+        Air temperature at those times. [degC]
+    """
+    t = ds["time"].values.astype("datetime64[ns]")
+    mean = np.asarray(ds["air_temperature"].values, dtype=float)[1:]
+    if t.size < 2 or not np.isfinite(mean).all():
+        raise InputError(f"{ds.encoding.get('source', 'run output')}: air_temperature needs at least two "
+                         "output times with finite values")
+    mid = t[:-1] + (t[1:] - t[:-1]) // 2
+    times = np.concatenate([t[:1], mid, t[-1:]])
+    values = np.concatenate([mean[:1], mean, mean[-1:]])
+    keep = np.concatenate([[True], np.diff(times.astype(np.int64)) > 0])
+    return times[keep], values[keep]
+
+
+def run_surface_coefficient(ds: xr.Dataset, source: str) -> float | None:
+    """H of the run's linear surface scheme [W m-2 K-1], or None (another scheme, or no
+    configuration in the file)."""
+    text = ds.attrs.get("icecolumn_config")
+    if not text:
+        return None
+    cfg = config_from_toml_text(str(text), f"{source}: attribute icecolumn_config")
+    ran = str(ds.attrs.get("surface_scheme", cfg.surface.scheme))  # the scheme that ran ("auto" resolved)
+    return cfg.surface.heat_transfer_coefficient if ran == "linear" else None
+
+
+def laws_for_run(air_time, air_temperature, run: xr.Dataset | None = None, run_source: str = "",
+                 base: float | None = None) -> tuple[xr.Dataset, float | None]:
+    """The growth-law table on this air temperature, compared with a run when one is given.
+
+    With ``run`` (one column of an icecolumn output) the laws start from the run's initial
+    thickness at its start, the table gets the ``model`` column and Stefan's law includes
+    the run's linear surface coefficient when that scheme ran.
+
+    Returns
+    -------
+    table : xarray.Dataset
+        :func:`laws_table`.
+    surface_coefficient : float or None
+        The H used in Stefan's law. [W m-2 K-1]
+    """
+    kwargs: dict[str, Any] = {}
+    coeff = None
+    if run is not None:
+        h = np.asarray(run["ice_thickness"].values, dtype=float)
+        coeff = run_surface_coefficient(run, run_source)
+        kwargs = dict(initial_thickness=float(h[0]), start=run["time"].values[0],
+                      model_time=run["time"].values, model_thickness=h, surface_coefficient=coeff)
+    return laws_table(air_time, air_temperature, base=base, **kwargs), coeff
+
+
+def fit_table_to_observations(table: xr.Dataset, obs: xr.Dataset) -> dict:
+    """Fit ``h = a theta^b`` to observed thickness, theta the table's freezing degree days at
+    the observation times (linear in time).
+
+    Returns
+    -------
+    dict
+        :func:`fit_observations` plus ``count`` (observations) [1] and
+        ``base_temperature`` of theta [degC].
+    """
+    name = "fdd" if "fdd" in table else "fdd_stefan"
+    tt = table["time"].values.astype("datetime64[ns]").astype(np.int64)
+    ot = obs["time"].values.astype("datetime64[ns]").astype(np.int64)
+    fdd = np.interp(ot, tt, table[name].values)
+    fit = fit_observations(fdd, obs["ice_thickness"].values)
+    fit["count"] = int(obs.sizes["time"])
+    fit["base_temperature"] = float(table[name].attrs.get("base_temperature_degC", float("nan")))
+    return fit

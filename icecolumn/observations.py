@@ -18,14 +18,13 @@ the physical line (1-based).
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .textfile import column_numbers, read_csv_rows
+from .textfile import read_csv
 from .timeutil import format_time, parse_times
 
 __all__ = ["read_observations"]
@@ -34,13 +33,16 @@ _REQUIRED = ("time", "ice_thickness")
 _OPTIONAL = ("snow_thickness",)
 
 
-def read_observations(path: str | Path) -> xr.Dataset:
+def read_observations(path: str | Path, period=None) -> xr.Dataset:
     """Read observed ice (and snow) thickness from a CSV file.
 
     Parameters
     ----------
     path : str or pathlib.Path
         The CSV file. [1]
+    period : (datetime64, datetime64), optional
+        First and last time allowed; an observation outside them is an error naming
+        its line. [UTC]
 
     Returns
     -------
@@ -55,34 +57,33 @@ def read_observations(path: str | Path) -> xr.Dataset:
     InputError
         ``"<file>: line <n>: <problem>"`` for anything wrong with the file.
     """
-    name = str(path)
-    header, header_no, rows = read_csv_rows(path, "observation file")
+    table = read_csv(path, "observation file", rows_name="observations")
+    name = table.name
     for col in _REQUIRED:
-        if col not in header:
-            found = ", ".join(repr(c) for c in header)
-            raise InputError(f"{name}: line {header_no}: no {col!r} column; columns found: {found}")
-    if not rows:
-        raise InputError(f"{name}: no observations after the header (line {header_no})")
-
-    lines = np.array([no for no, _ in rows], dtype=np.int64)
-    columns = {col: [cells[header.index(col)] for _, cells in rows]
-               for col in (*_REQUIRED, *_OPTIONAL) if col in header}
-    for col, texts in columns.items():
-        for i, t in enumerate(texts):
-            if not t:
-                raise InputError(f"{name}: line {lines[i]}: column {col!r} is empty")
-    times = parse_times(columns["time"], lambda i: f"line {lines[i]}: column 'time'", name)
-    data = {}
-    for col in ("ice_thickness", *_OPTIONAL):
-        if col not in columns:
-            continue
-        data[col] = column_numbers(name, col, columns[col], lines, nonnegative_unit="m")
+        if col not in table.header:
+            found = ", ".join(repr(c) for c in table.header)
+            raise InputError(f"{name}: line {table.header_line}: no {col!r} column; columns found: {found}")
+    lines = np.array(table.lines, dtype=np.int64)
+    time_texts = table.column("time")
+    for i, t in enumerate(time_texts):
+        if not t:
+            raise InputError(f"{name}: line {lines[i]}: column 'time' is empty")
+    times = parse_times(time_texts, lambda i: f"line {lines[i]}: column 'time'", name)
+    data = {col: table.numbers(col, nonnegative_unit="m")
+            for col in ("ice_thickness", *_OPTIONAL) if col in table.header}
     steps = np.diff(times.astype("int64"))
     bad = np.flatnonzero(steps <= 0)
     if bad.size:
         k = int(bad[0]) + 1
         raise InputError(f"{name}: line {lines[k]}: time {format_time(times[k])} is not after "
                          f"{format_time(times[k - 1])} on line {lines[k - 1]}; times must be strictly increasing")
+    if period is not None:
+        first, last = (np.datetime64(t, "ns") for t in period)
+        outside = np.flatnonzero((times < first) | (times > last))
+        if outside.size:
+            i = int(outside[0])
+            raise InputError(f"{name}: line {lines[i]}: time {format_time(times[i], 'm')} is outside the period "
+                             f"{format_time(first, 'm')} to {format_time(last, 'm')}")
     attrs = {
         "ice_thickness": {"units": "m", "long_name": "observed ice thickness", "standard_name": "sea_ice_thickness"},
         "snow_thickness": {"units": "m", "long_name": "observed snow thickness",
@@ -92,53 +93,3 @@ def read_observations(path: str | Path) -> xr.Dataset:
     variables["line"] = ("time", lines, {"long_name": "line of the observation in the file", "units": "1"})
     return xr.Dataset(variables, coords={"time": ("time", times, {"standard_name": "time", "long_name": "time (UTC)"})},
                       attrs={"source_file": name})
-
-
-def read_profile_points(path: str | Path, kind: str) -> dict:
-    """Read thermistor temperatures or ice-core salinities for plotting as points.
-
-    Parameters
-    ----------
-    path : str or pathlib.Path
-        CSV file. ``kind="thermistor"``: columns ``time``, ``depth`` [m below the ice
-        surface], ``temperature`` [degC]. ``kind="core"``: ``time``, ``depth_top``,
-        ``depth_bottom`` [m], ``salinity`` [g kg-1] (drawn at the section mid-depth).
-    kind : str
-        ``"thermistor"`` or ``"core"``.
-
-    Returns
-    -------
-    dict
-        ``time`` (datetime64[ns]), ``depth`` [m] and ``temperature`` or ``salinity``.
-    """
-    need = {"thermistor": ("time", "depth", "temperature"),
-            "core": ("time", "depth_top", "depth_bottom", "salinity")}[kind]
-    name = str(path)
-    header, header_no, rows = read_csv_rows(path, f"{kind} file", ", ".join(need))
-    missing = [c for c in need if c not in header]
-    if missing:
-        raise InputError(f"{name}: line {header_no}: missing column(s) {', '.join(missing)} "
-                         f"(found {', '.join(header)})")
-    idx = {c: header.index(c) for c in need}
-    times, cols = [], {c: [] for c in need[1:]}
-    for no, cells in rows:
-        times.append((no, cells[idx["time"]].strip()))
-        for c in need[1:]:
-            try:
-                v = float(cells[idx[c]])
-            except ValueError:
-                raise InputError(f"{name}: line {no}: column {c!r}: {cells[idx[c]].strip()!r} is not a number") from None
-            if not math.isfinite(v):
-                raise InputError(f"{name}: line {no}: column {c!r}: value is not finite")
-            cols[c].append(v)
-    if not times:
-        raise InputError(f"{name}: no data rows")
-    t = parse_times([s for _, s in times], label=lambda i: f"line {times[i][0]}: column 'time'", source=name)
-    out = {"time": np.asarray(t, dtype="datetime64[ns]")}
-    if kind == "thermistor":
-        out["depth"] = np.asarray(cols["depth"])
-        out["temperature"] = np.asarray(cols["temperature"])
-    else:
-        out["depth"] = 0.5 * (np.asarray(cols["depth_top"]) + np.asarray(cols["depth_bottom"]))
-        out["salinity"] = np.asarray(cols["salinity"])
-    return out

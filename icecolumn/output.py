@@ -17,7 +17,6 @@ from . import kernel as K
 from .constants import SEAWATER_DENSITY
 from .ocean import mixed_layer_temperature_salinity
 from ._version import __version__
-from .errors import InputError
 from .textfile import check_new_output, write_atomically
 
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "

@@ -6,10 +6,10 @@ built with matplotlib's object-oriented API (``matplotlib.figure.Figure``), so
 no pyplot global state is touched and the functions are safe to call from a
 headless process or from tests.
 
+Output files are opened and checked by :mod:`icecolumn.output_io`.
+
 Public functions
 ----------------
-``open_output(path)``                      open and check an output file
-``check_output_dataset(ds, source, require)``  check a dataset is icecolumn output
 ``plot_thickness(ds, laws, obs, title)``   ice and snow thickness against time
 ``plot_sections(ds, thermistor, core, title)``  depth-time sections of four fields
 ``plot_salt(ds, title)``                   salt flux and cumulative salt released
@@ -26,7 +26,7 @@ from __future__ import annotations
 import os
 import re
 import warnings
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -36,15 +36,15 @@ import numpy as np
 import xarray as xr
 from matplotlib.figure import Figure
 
+from icecolumn.constants import SECONDS_PER_DAY
 from icecolumn.errors import InputError
+from icecolumn.output_io import check_output_dataset
 from icecolumn.textfile import write_atomically
 
 __all__ = [
     "FIELDS",
     "LAW_LABELS",
     "OUTPUT_VARIABLES",
-    "check_output_dataset",
-    "open_output",
     "plot_profiles",
     "plot_run",
     "plot_salt",
@@ -72,13 +72,12 @@ THICKNESS_VARIABLES = ("ice_thickness",)
 SECTION_VARIABLES = tuple(f[0] for f in FIELDS) + ("depth_bounds",)
 SALT_VARIABLES = ("salt_flux", "salt_released")
 PROFILE_VARIABLES = tuple(f[0] for f in FIELDS) + ("depth",)
-#: Everything :func:`plot_run` needs; the default for :func:`open_output`.
+#: Everything :func:`plot_run` needs.
 OUTPUT_VARIABLES = tuple(
     dict.fromkeys(THICKNESS_VARIABLES + SECTION_VARIABLES + SALT_VARIABLES + PROFILE_VARIABLES)
 )
 
 FORMATS = ("png", "pdf", "svg")
-SECONDS_PER_DAY = 86400.0
 BAND_PERCENTILES = (5.0, 95.0)
 
 _SUPERSCRIPT = str.maketrans("-0123456789", "\u207b\u2070\u00b9\u00b2\u00b3\u2074\u2075\u2076\u2077\u2078\u2079")
@@ -90,58 +89,6 @@ _SUPERSCRIPT = str.maketrans("-0123456789", "\u207b\u2070\u00b9\u00b2\u00b3\u207
 def _source(ds: xr.Dataset) -> str:
     """Name of the file a dataset came from, for error messages."""
     return str(ds.encoding.get("source", "output dataset"))
-
-
-def check_output_dataset(
-    ds: xr.Dataset,
-    source: str = "file.nc",
-    require: Iterable[str] = OUTPUT_VARIABLES,
-) -> xr.Dataset:
-    """Raise :class:`InputError` unless ``ds`` is icecolumn output holding ``require``.
-
-    Returns ``ds`` unchanged so the call can be chained.
-    """
-    if not isinstance(ds, xr.Dataset):
-        raise InputError(f"{source}: expected an xarray Dataset, got {type(ds).__name__}")
-    if "icecolumn_version" not in ds.attrs:
-        raise InputError(f"{source}: not an icecolumn output file (no icecolumn_version attribute)")
-    if "time" not in ds.variables:
-        raise InputError(f"{source}: no time coordinate")
-    if not np.issubdtype(ds["time"].dtype, np.datetime64):
-        raise InputError(
-            f"{source}: time coordinate is not decoded to dates (dtype {ds['time'].dtype})"
-        )
-    if ds.sizes["time"] < 1:
-        raise InputError(f"{source}: time coordinate is empty")
-    missing = [name for name in require if name not in ds.variables]
-    if missing:
-        raise InputError(f"{source}: missing variable(s) {', '.join(missing)}")
-    if "depth_bounds" in ds.variables:
-        db = ds["depth_bounds"]
-        if "nv" not in db.dims or db.sizes["nv"] != 2:
-            raise InputError(
-                f"{source}: depth_bounds must have a dimension nv of size 2, got {db.dims}"
-            )
-    return ds
-
-
-def open_output(path: str | os.PathLike, require: Iterable[str] = OUTPUT_VARIABLES) -> xr.Dataset:
-    """Open an icecolumn output file into memory and check it.
-
-    Raises :class:`InputError` if the file is missing, cannot be read as NetCDF
-    or is not icecolumn output with the ``require`` variables.
-    """
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"{path}: file not found")
-    try:
-        with xr.open_dataset(path) as src:
-            ds = src.load()
-    except Exception as exc:  # netCDF4/h5py/xarray raise many kinds
-        msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
-        raise InputError(f"{path}: cannot read as NetCDF ({msg})") from None
-    ds.encoding["source"] = str(path)
-    return check_output_dataset(ds, source=str(path), require=require)
 
 
 # --------------------------------------------------------------------------- helpers

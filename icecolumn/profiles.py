@@ -1,4 +1,4 @@
-"""Initial state of a forecast from field measurements: thermistor string and ice core.
+"""Field profiles: thermistor-string and ice-core files (the forecast starts from them).
 
 Two UTF-8 CSV layouts (optional leading ``#`` comment lines, one header row):
 
@@ -25,7 +25,8 @@ Only thermistor readings inside the ice (``0 <= depth <= ice thickness``) are us
 number set aside (in the snow, in the water) is reported.  Without a core the salinity
 is the first-year depth-mean of :func:`first_year_salinity` (uniform); without a
 thermistor the model's default temperature (linear from the surface to the freezing
-point) applies.
+point) applies (:func:`icecolumn.forecast.initial_profile` builds that initial state).
+The same files are drawn as points on the section figures (:func:`read_profile_points`).
 """
 
 from __future__ import annotations
@@ -36,18 +37,24 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
-from .model import InitialProfile
-from .textfile import column_numbers, read_csv_rows
+from .textfile import read_csv
 from .timeutil import parse_time, parse_times
 
-__all__ = ["ThermistorReading", "CoreReading", "read_thermistor", "read_core", "first_year_salinity",
-           "initial_profile", "FIRST_YEAR_SALINITY_SOURCE"]
+__all__ = ["ThermistorReading", "CoreReading", "ProfileTable", "read_profile_table", "read_profile_points",
+           "read_thermistor", "read_core", "first_year_salinity", "FIRST_YEAR_SALINITY_SOURCE"]
 
 #: Where the default salinity comes from (printed with forecasts that use it).
 FIRST_YEAR_SALINITY_SOURCE = (
     "Cox & Weeks (1974), J. Glaciol. 13(67), 109-120: depth-mean salinity of cold first-year ice, "
     "S = 14.24 - 19.39 h for h <= 0.4 m, S = 7.88 - 1.59 h for h > 0.4 m (h in m, S in g/kg; "
     "coefficients from memory)")
+
+#: Number columns of each kind of profile file (besides the optional ``time``).
+PROFILE_COLUMNS: dict[str, tuple[str, ...]] = {
+    "thermistor": ("depth", "temperature"),
+    "core": ("depth_top", "depth_bottom", "salinity"),
+}
+_FILE_KIND = {"thermistor": "thermistor file", "core": "ice-core file"}
 
 # plausible sensor temperatures [degC] (common practice, no source)
 _TEMPERATURE_RANGE = (-60.0, 5.0)
@@ -79,39 +86,71 @@ class CoreReading:
     source: str
 
 
-def _read_table(path, need: tuple[str, ...], what: str) -> tuple[str, dict[str, list[str]], list[int], list[str]]:
-    name = str(path)
-    header, header_no, rows = read_csv_rows(path, what, ", ".join(need))
-    missing = [c for c in need if c not in header]
-    if missing:
-        raise InputError(f"{name}: line {header_no}: missing column(s) {', '.join(missing)} "
-                         f"(found {', '.join(header)})")
-    if not rows:
-        raise InputError(f"{name}: no data rows after the header (line {header_no})")
-    cols = {c: [cells[header.index(c)] for _, cells in rows] for c in header}
-    return name, cols, [no for no, _ in rows], header
+@dataclass
+class ProfileTable:
+    """Every row of a thermistor or ice-core file."""
+
+    source: str
+    lines: np.ndarray  # physical line of each row
+    time: np.ndarray | None  # datetime64[ns] UTC of each row, None without a time column
+    values: dict[str, np.ndarray]  # the kind's number columns (PROFILE_COLUMNS)
 
 
-def _numbers(name: str, cols: dict, lines: list[int], col: str) -> np.ndarray:
-    return column_numbers(name, col, cols[col], lines)
+def read_profile_table(path: str | Path, kind: str, need_time: bool = False) -> ProfileTable:
+    """Read a thermistor (``kind="thermistor"``) or ice-core (``"core"``) CSV file.
+
+    The columns are those of the module docstring; ``time`` is optional unless
+    ``need_time``.  Every problem is one :class:`InputError` line naming the file, the line
+    and the column.
+    """
+    need = (("time",) if need_time else ()) + PROFILE_COLUMNS[kind]
+    table = read_csv(path, _FILE_KIND[kind], ", ".join(need))
+    table.require(need)
+    times = None
+    if "time" in table.header:
+        times = parse_times(table.column("time"), lambda i: f"line {table.lines[i]}: column 'time'", table.name)
+    values = {c: table.numbers(c) for c in PROFILE_COLUMNS[kind]}
+    return ProfileTable(table.name, np.asarray(table.lines), times, values)
 
 
-def _select_time(name: str, cols: dict, lines: list[int], at) -> tuple[np.ndarray, np.datetime64 | None]:
+def read_profile_points(path: str | Path, kind: str) -> dict:
+    """Thermistor temperatures or ice-core salinities at their times and depths, for plotting.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        CSV file. ``kind="thermistor"``: columns ``time``, ``depth`` [m below the ice
+        surface], ``temperature`` [degC]. ``kind="core"``: ``time``, ``depth_top``,
+        ``depth_bottom`` [m], ``salinity`` [g kg-1] (drawn at the section mid-depth).
+    kind : str
+        ``"thermistor"`` or ``"core"``.
+
+    Returns
+    -------
+    dict
+        ``time`` (datetime64[ns]), ``depth`` [m] and ``temperature`` or ``salinity``.
+    """
+    table = read_profile_table(path, kind, need_time=True)
+    v = table.values
+    if kind == "thermistor":
+        return {"time": table.time, "depth": v["depth"], "temperature": v["temperature"]}
+    return {"time": table.time, "depth": 0.5 * (v["depth_top"] + v["depth_bottom"]), "salinity": v["salinity"]}
+
+
+def _select_time(table: ProfileTable, at) -> tuple[np.ndarray, np.datetime64 | None]:
     """Row mask of the chosen read time (all rows when there is no time column)."""
-    n = len(lines)
-    if "time" not in cols:
-        return np.ones(n, bool), None
-    t = parse_times(cols["time"], lambda i: f"line {lines[i]}: column 'time'", name)
-    uniq = np.unique(t)
+    if table.time is None:
+        return np.ones(table.lines.size, bool), None
+    uniq = np.unique(table.time)
     if at is not None:
         at = parse_time(at) if isinstance(at, str) else np.datetime64(at, "ns")
         ok = uniq[uniq <= at]
         if ok.size == 0:
-            raise InputError(f"{name}: every reading is after {str(at)[:16]}; none can start the forecast")
+            raise InputError(f"{table.source}: every reading is after {str(at)[:16]}; none can start the forecast")
         chosen = ok[-1]
     else:
         chosen = uniq[-1]
-    return t == chosen, chosen
+    return table.time == chosen, chosen
 
 
 def read_thermistor(path: str | Path, ice_thickness: float, at=None) -> ThermistorReading:
@@ -131,11 +170,12 @@ def read_thermistor(path: str | Path, ice_thickness: float, at=None) -> Thermist
     InputError
         Bad file, or no reading with ``0 <= depth <= ice_thickness``.
     """
-    name, cols, lines, _ = _read_table(path, ("depth", "temperature"), "thermistor file")
-    mask, chosen = _select_time(name, cols, lines, at)
-    depth = _numbers(name, cols, lines, "depth")[mask]
-    temp = _numbers(name, cols, lines, "temperature")[mask]
-    kept_lines = np.asarray(lines)[mask]
+    table = read_profile_table(path, "thermistor")
+    name = table.source
+    mask, chosen = _select_time(table, at)
+    depth = table.values["depth"][mask]
+    temp = table.values["temperature"][mask]
+    kept_lines = table.lines[mask]
     lo, hi = _TEMPERATURE_RANGE
     bad = np.flatnonzero((temp < lo) | (temp > hi))
     if bad.size:
@@ -165,12 +205,13 @@ def read_core(path: str | Path, ice_thickness: float | None = None, at=None) -> 
     ``ice_thickness`` given, a section starting below the ice is an error.
     Salinity must lie in 0..45 g/kg.
     """
-    name, cols, lines, _ = _read_table(path, ("depth_top", "depth_bottom", "salinity"), "ice-core file")
-    mask, chosen = _select_time(name, cols, lines, at)
-    top = _numbers(name, cols, lines, "depth_top")[mask]
-    bot = _numbers(name, cols, lines, "depth_bottom")[mask]
-    sal = _numbers(name, cols, lines, "salinity")[mask]
-    ln = np.asarray(lines)[mask]
+    table = read_profile_table(path, "core")
+    name = table.source
+    mask, chosen = _select_time(table, at)
+    top = table.values["depth_top"][mask]
+    bot = table.values["depth_bottom"][mask]
+    sal = table.values["salinity"][mask]
+    ln = table.lines[mask]
     for i in range(top.size):
         if not 0.0 <= top[i] < bot[i]:
             raise InputError(f"{name}: line {ln[i]}: need 0 <= depth_top < depth_bottom, got "
@@ -200,33 +241,3 @@ def first_year_salinity(thickness: float) -> float:
     h = float(thickness)
     s = 14.24 - 19.39 * h if h <= 0.4 else 7.88 - 1.59 * h
     return float(min(max(s, 0.0), 34.0))
-
-
-def initial_profile(ice_thickness: float, thermistor: ThermistorReading | None = None,
-                    core: CoreReading | None = None) -> tuple[InitialProfile, list[str]]:
-    """Build the model's initial profile and a list of notes saying what was used.
-
-    Temperature: thermistor readings inside the ice (the model interpolates them to its
-    layers and holds them constant beyond the first and last sensor), else ``None`` (the
-    model's default linear profile).  Salinity: core sections at their mid-depths, else
-    the uniform :func:`first_year_salinity` of this thickness.
-    """
-    notes = []
-    prof = InitialProfile()
-    if thermistor is not None:
-        prof.depth = np.asarray(thermistor.depth, float)
-        prof.temperature = np.asarray(thermistor.temperature, float)
-        notes.append(thermistor.summary())
-    else:
-        notes.append("temperature: model default (linear from the surface to the freezing point)")
-    if core is not None:
-        prof.salinity_depth = np.asarray(core.depth, float)
-        prof.salinity = np.asarray(core.salinity, float)
-        notes.append(f"{core.source}: salinity from {core.depth.size} core sections")
-    else:
-        s = first_year_salinity(ice_thickness)
-        prof.salinity_depth = np.array([0.0, max(ice_thickness, 1e-3)])
-        prof.salinity = np.array([s, s])
-        notes.append(f"salinity: uniform {s:.2f} g/kg, first-year depth-mean for {ice_thickness:g} m "
-                     f"({FIRST_YEAR_SALINITY_SOURCE})")
-    return prof, notes

@@ -1,12 +1,31 @@
-"""User files: reading text with one-line errors, and writing outputs atomically."""
+"""User files: reading text and CSV with one-line errors, and writing outputs safely.
+
+One helper per job:
+
+* :func:`read_user_text` / :func:`read_user_bytes`: a file's contents, or one line saying
+  why it cannot be read;
+* :func:`read_csv`: a small CSV table (``#`` comment lines, one header row) with the
+  physical line number of every row; :meth:`CsvTable.numbers` turns a column into
+  floats, naming the line and column of the first bad cell;
+* :func:`output_path` and :func:`check_new_output`: where an output goes, and the refusal
+  to replace an existing file without ``--overwrite``;
+* :func:`write_atomically` / :func:`write_text_atomically`: an output is written under a
+  temporary name beside its target and renamed into place, so no partial file is left.
+"""
 from __future__ import annotations
 
-import math
+import csv
+import os
+import tempfile
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from .errors import InputError
+
+__all__ = ["read_user_bytes", "read_user_text", "CsvTable", "read_csv", "output_path", "check_new_output",
+           "write_atomically", "write_text_atomically"]
 
 
 def read_user_bytes(path, what: str) -> bytes:
@@ -37,60 +56,144 @@ def read_user_text(path, what: str) -> tuple[str, bytes]:
     return text, raw
 
 
-def read_csv_rows(path, what: str, expected: str = "") -> tuple[list[str], int, list[tuple[int, list[str]]]]:
-    """Header and data rows of a small CSV file (``#`` comment and blank lines skipped).
+# --------------------------------------------------------------------------- CSV
 
-    Returns ``(header, header_line, [(line_number, cells), ...])``; a malformed line, a row
-    with the wrong number of fields or an empty file is an :class:`InputError` naming the
-    file and line. ``expected`` (e.g. ``"time, ice_thickness"``) is added to the empty-file
-    message.
+
+@dataclass
+class CsvTable:
+    """A CSV file's header and data rows (cells stripped of surrounding blanks)."""
+
+    name: str  # the path as given, first in messages
+    header: list[str]
+    header_line: int  # 1-based physical line of the header
+    lines: list[int]  # physical line of each row
+    rows: list[list[str]]
+    comments: list[str]  # text of the comment lines before the header, without '#'
+    raw: bytes  # the file's bytes
+
+    def column(self, col: str) -> list[str]:
+        """The cell texts of one column."""
+        j = self.header.index(col)
+        return [cells[j] for cells in self.rows]
+
+    def require(self, columns) -> None:
+        """:class:`InputError` naming the header line unless every one of ``columns`` is there."""
+        missing = [c for c in columns if c not in self.header]
+        if missing:
+            raise InputError(f"{self.name}: line {self.header_line}: missing column(s) {', '.join(missing)} "
+                             f"(found {', '.join(self.header)})")
+
+    def numbers(self, col: str, *, nonnegative_unit: str | None = None, empty_is_gap: bool = False,
+                shown: str | None = None) -> np.ndarray:
+        """float64 values of column ``col``; see :func:`cell_numbers`."""
+        return cell_numbers(self.name, shown or col, self.column(col), self.lines,
+                            nonnegative_unit=nonnegative_unit, empty_is_gap=empty_is_gap)
+
+
+def cell_numbers(name: str, col: str, texts: list[str], lines, *, nonnegative_unit: str | None = None,
+                 empty_is_gap: bool = False) -> np.ndarray:
+    """float64 values of the cell texts of one column; the first bad cell is an :class:`InputError`
+    naming the file ``name``, the line and the column ``col``.
+
+    An empty cell is an error, or NaN (a gap) with ``empty_is_gap``; texts such as ``nan`` or
+    ``inf`` are errors, not gaps.  With ``nonnegative_unit`` (e.g. ``"m"``) a negative value is
+    an error too.
     """
-    import csv
+    empty = np.array([not t for t in texts], dtype=bool)
+    if empty.any() and not empty_is_gap:
+        raise InputError(f"{name}: line {lines[int(np.flatnonzero(empty)[0])]}: column {col!r} is empty")
+    filled = ["nan" if not t else t for t in texts] if empty.any() else texts
+    try:
+        values = np.array(filled, dtype=np.float64)
+    except (ValueError, OverflowError):
+        values = np.empty(len(texts))
+        for i, t in enumerate(filled):
+            try:
+                values[i] = float(t)
+            except (ValueError, OverflowError):
+                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
+    bad = ~np.isfinite(values) & ~empty
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError(f"{name}: line {lines[i]}: column {col!r}: {float(values[i])!r} is not a finite number")
+    if nonnegative_unit is not None and (values < 0).any():
+        i = int(np.flatnonzero(values < 0)[0])
+        raise InputError(f"{name}: line {lines[i]}: column {col!r}: {values[i]:g} {nonnegative_unit} is negative")
+    return values
 
+
+def _cells(line: str, name: str, no: int) -> list[str]:
+    """Fields of one CSV line, by the csv module when the line holds quotes (a line without
+    quotes splits at its commas, which is what the csv module would do)."""
+    if '"' not in line:
+        return line.split(",")
+    try:
+        return next(csv.reader([line], strict=True))
+    except (csv.Error, StopIteration) as err:
+        raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
+
+
+def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") -> CsvTable:
+    """Header and data rows of a UTF-8 CSV file.
+
+    Blank lines and lines starting with ``#`` are skipped (the ``#`` lines before the header
+    are kept as ``comments``); the first other line is the header.  Every problem is one
+    :class:`InputError` line naming the file and the physical line: not UTF-8, malformed
+    CSV, a header column without a name or named twice, a row with a different number of
+    fields than the header, an empty file (``expected``, e.g. ``"time, ice_thickness"``,
+    is added to that message) and a file without ``rows_name`` after the header.
+    """
     name = str(path)
-    text, _ = read_user_text(path, what)
+    text, raw = read_user_text(path, what)
+    comments: list[str] = []
     header: list[str] | None = None
-    header_no = 0
-    rows: list[tuple[int, list[str]]] = []
-    for no, line in enumerate(text.splitlines(), start=1):
+    header_line = 0
+    lines: list[int] = []
+    rows: list[list[str]] = []
+    for no, line in enumerate(text.split("\n"), start=1):
         stripped = line.strip()
-        if not stripped or stripped.startswith("#"):
+        if not stripped:
             continue
-        try:
-            cells = [c.strip() for c in next(csv.reader([line], strict=True))]
-        except csv.Error as err:
-            raise InputError(f"{name}: line {no}: malformed CSV ({err})") from None
+        if stripped.startswith("#"):
+            if header is None:
+                comments.append(stripped.lstrip("#").strip())
+            continue
+        cells = [c.strip() for c in _cells(line.rstrip("\r"), name, no)]
         if header is None:
-            header, header_no = cells, no
+            for j, col in enumerate(cells):
+                if not col:
+                    raise InputError(f"{name}: line {no}: column {j + 1} of the header has no name")
+                if col in cells[:j]:
+                    raise InputError(f"{name}: line {no}: column name {col!r} appears twice")
+            header, header_line = cells, no
             continue
         if len(cells) != len(header):
             raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
-                             f"(line {header_no}), found {len(cells)}")
-        rows.append((no, cells))
+                             f"(line {header_line}), found {len(cells)}")
+        lines.append(no)
+        rows.append(cells)
     if header is None:
+        if comments:
+            raise InputError(f"{name}: no header row (only comments)")
         raise InputError(f"{name}: file is empty" + (f" (expected columns {expected})" if expected else ""))
-    return header, header_no, rows
+    if not rows:
+        raise InputError(f"{name}: no {rows_name} after the header (line {header_line})")
+    return CsvTable(name, header, header_line, lines, rows, comments, raw)
 
 
-def column_numbers(name: str, col: str, texts: list[str], lines: list[int], nonnegative_unit: str | None = None):
-    """Finite float64 values of one CSV column; the first bad cell is an :class:`InputError`
-    naming the file, line and column.  With ``nonnegative_unit`` (e.g. ``"m"``) a negative
-    value is an error too."""
-    out = np.empty(len(texts))
-    for i, t in enumerate(texts):
-        try:
-            v = float(t)
-        except ValueError:
-            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
-        if not math.isfinite(v):
-            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a finite number")
-        if nonnegative_unit is not None and v < 0:
-            raise InputError(f"{name}: line {lines[i]}: column {col!r}: {v:g} {nonnegative_unit} is negative")
-        out[i] = v
-    return out
+# --------------------------------------------------------------------------- outputs
 
 
-def check_new_output(path, overwrite: bool = False):
+def output_path(given, default_name: str) -> Path:
+    """Where an output goes: ``given`` (a file, or a folder to hold ``default_name``), or
+    ``default_name`` in the current folder when nothing is given."""
+    if given is None:
+        return Path(default_name)
+    path = Path(given)
+    return path / default_name if path.is_dir() else path
+
+
+def check_new_output(path, overwrite: bool = False) -> Path:
     """Refuse to replace an existing file unless ``overwrite``; the folder must exist.
 
     Returns the folder as a :class:`pathlib.Path`.
@@ -104,21 +207,28 @@ def check_new_output(path, overwrite: bool = False):
     return folder
 
 
-def write_atomically(path, write, suffix: str = ".tmp"):
-    """Call ``write(temporary_path)`` on a temporary file beside ``path``, then rename it
-    to ``path``; on any failure the temporary file is removed and nothing is left behind."""
-    import os
-    import tempfile
-
+def write_atomically(path, write, suffix: str = ".tmp") -> Path:
+    """Call ``write(temporary_path)`` on a temporary file beside ``path``, flush it to disk and
+    rename it to ``path``; on any failure the temporary file is removed and nothing is left
+    behind (an existing ``path`` is untouched)."""
     path = Path(path)
     folder = path.parent if str(path.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix, dir=folder)
     os.close(fd)
     try:
         write(tmp)
+        with open(tmp, "rb") as fh:
+            os.fsync(fh.fileno())
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
             os.unlink(tmp)
         raise
     return path
+
+
+def write_text_atomically(path, text: str, overwrite: bool = False) -> Path:
+    """Write UTF-8 ``text`` to ``path`` atomically, refusing to replace a file unless ``overwrite``."""
+    check_new_output(path, overwrite)
+    return write_atomically(path, lambda tmp: Path(tmp).write_text(text, encoding="utf-8", newline="\n"))
+

@@ -16,9 +16,10 @@ from collections.abc import Callable, Sequence
 
 import numpy as np
 
+from .constants import SECONDS_PER_DAY
 from .errors import InputError
 
-__all__ = ["parse_duration", "parse_time", "parse_times", "format_time", "DURATION_UNITS"]
+__all__ = ["parse_duration", "parse_time", "parse_times", "format_time", "format_duration", "DURATION_UNITS"]
 
 #: Seconds per unit of the short duration form ``<number><unit>``.
 DURATION_UNITS: dict[str, float] = {
@@ -27,12 +28,12 @@ DURATION_UNITS: dict[str, float] = {
     "min": 60.0,
     "h": 3600.0,
     "hr": 3600.0,
-    "d": 86400.0,
-    "D": 86400.0,
-    "day": 86400.0,
-    "days": 86400.0,
-    "w": 604800.0,
-    "W": 604800.0,
+    "d": SECONDS_PER_DAY,
+    "D": SECONDS_PER_DAY,
+    "day": SECONDS_PER_DAY,
+    "days": SECONDS_PER_DAY,
+    "w": 7 * SECONDS_PER_DAY,
+    "W": 7 * SECONDS_PER_DAY,
 }
 
 _SHORT_DURATION = re.compile(r"\s*(\d+(?:\.\d*)?|\.\d+)\s*([A-Za-z]+)\s*")
@@ -79,7 +80,7 @@ def parse_duration(text: str) -> float:
     else:
         m = _ISO_DURATION.fullmatch(text)
         if m and any(m.groupdict().values()) and not text.strip().endswith("T"):
-            factors = {"w": 604800.0, "d": 86400.0, "h": 3600.0, "m": 60.0, "s": 1.0}
+            factors = {"w": 7 * SECONDS_PER_DAY, "d": SECONDS_PER_DAY, "h": 3600.0, "m": 60.0, "s": 1.0}
             seconds = sum(float(v) * factors[k] for k, v in m.groupdict().items() if v)
     if seconds is None:
         units = ", ".join(sorted(set(DURATION_UNITS) - {"sec", "hr", "day", "days", "d", "w"}))
@@ -90,6 +91,26 @@ def parse_duration(text: str) -> float:
     if seconds <= 0.0:
         raise InputError(f"duration {text!r} must be positive")
     return seconds
+
+
+def format_duration(seconds: float) -> str:
+    """Short text of a duration, the inverse of :func:`parse_duration` for whole units.
+
+    Parameters
+    ----------
+    seconds : float
+        The duration. [s]
+
+    Returns
+    -------
+    text : str
+        The largest unit that divides it: ``"2D"``, ``"6h"``, ``"90min"``, else seconds
+        such as ``"1.5s"``. [1]
+    """
+    for size, unit in ((SECONDS_PER_DAY, "D"), (3600.0, "h"), (60.0, "min")):
+        if seconds >= size and float(seconds / size).is_integer():
+            return f"{int(seconds // size)}{unit}"
+    return f"{seconds:g}s"
 
 
 def _split_time(text: str) -> tuple[str, int] | None:
@@ -201,20 +222,23 @@ def parse_times(
     return values
 
 
-def format_time(value: np.datetime64) -> str:
-    """ISO 8601 text of a UTC time, to the second: ``YYYY-MM-DDTHH:MM:SSZ``.
+def format_time(value: np.datetime64, unit: str = "s") -> str:
+    """ISO 8601 text of a UTC time: ``YYYY-MM-DDTHH:MM:SSZ`` (or to the minute).
 
     Parameters
     ----------
     value : numpy.datetime64
-        A naive-UTC instant; fractions of a second are dropped. [ns since 1970-01-01]
+        A naive-UTC instant; the part below ``unit`` is dropped. [ns since 1970-01-01]
+    unit : {"s", "m"}
+        Last field written: seconds (default) or minutes. [1]
 
     Returns
     -------
     text : str
-        For example ``"2026-10-01T00:00:00Z"``. [1]
+        For example ``"2026-10-01T00:00:00Z"``, or ``"2026-10-01T00:00Z"`` with
+        ``unit="m"``. [1]
     """
-    seconds = np.datetime64(value, "ns").astype("datetime64[s]")
-    if np.isnat(seconds):
+    truncated = np.datetime64(value, "ns").astype(f"datetime64[{unit}]")
+    if np.isnat(truncated):
         raise InputError("cannot format a missing time (NaT)")
-    return f"{np.datetime_as_string(seconds, unit='s')}Z"
+    return f"{np.datetime_as_string(truncated, unit=unit)}Z"

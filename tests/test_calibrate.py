@@ -7,7 +7,6 @@ Twin experiments: the "observations" are made by the model itself (true ocean he
 
 from __future__ import annotations
 
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -144,6 +143,14 @@ def test_cli_calibrate(tmp_path, monkeypatch, sample_forcing_path, setup):
     assert r2.exit_code == 2
     err = [ln for ln in r2.stderr.splitlines() if ln.strip()]
     assert len(err) == 1 and "strictly increasing" in err[0]
+    # --set and --column are checked like in every command that runs the model, before writing
+    r3 = runner.invoke(app, ["calibrate", str(sample_forcing_path), "--obs", "obs.csv", "-o", "fit3.toml",
+                             "--set", "grid.layerz=3"])
+    assert r3.exit_code == 2 and "did you mean 'layers'" in r3.stderr
+    r4 = runner.invoke(app, ["calibrate", str(sample_forcing_path), "--obs", "obs.csv", "-o", "fit3.toml",
+                             "--column", "air_temperature=nosuch"])
+    assert r4.exit_code == 2 and "'nosuch'" in r4.stderr
+    assert not (tmp_path / "fit3.toml").exists()
 
 
 @pytest.mark.slow

@@ -38,7 +38,7 @@ def test_check_sample_prints_period_step_and_fdd():
     # period and hourly step of the invented sample (its design, forcing_samples/README.md)
     assert "period:      2026-10-01T00:00:00Z to 2027-05-31T23:00:00Z (242.96 days, 5832 times)" in out
     assert "time step:   median 1h, min 1h, max 1h" in out
-    assert re.search(r"air_temperature\s+\[degC\]\s+min -?\d", out)
+    assert re.search(r"^  air_temperature\s+degC\s+-?\d", out, re.M)
     assert "gaps filled: 0" in out
     m = re.search(r"freezing degree days \(base 0 degC\): ([0-9.]+) K day", out)
     assert m is not None, out
@@ -58,7 +58,7 @@ def test_check_prints_gap_warning(tmp_path):
     assert result.exit_code == 0, result.output
     assert "gaps filled: 1 (longest 2h)" in result.stdout
     assert re.search(r"^warning: .*filled 1 gap by linear interpolation", result.stdout, re.M)
-    assert re.search(r"wind_speed\s+\[m s-1\]\s+min 1\s+mean 2.25\s+max 3", result.stdout)
+    assert re.search(r"^  wind_speed\s+m s-1\s+1\s+2.25\s+3$", result.stdout, re.M)
 
 
 def test_check_max_gap_option_and_config(tmp_path):

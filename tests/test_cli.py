@@ -14,7 +14,7 @@ import xarray as xr
 from typer.testing import CliRunner
 
 import icecolumn
-from icecolumn.cli import ProgressBar, app
+from icecolumn.cli import app
 
 REPO = Path(__file__).resolve().parent.parent
 FAST_CONFIG = '[output]\ninterval = "1D"\n\n[grid]\nlayers = 10\n'
@@ -218,33 +218,29 @@ def test_version():
     assert result.stdout.strip() == f"icecolumn {icecolumn.__version__}"
 
 
-def test_progress_bar_on_terminal():
-    class Tty:
-        def __init__(self):
-            self.parts = []
+def test_progress_bar_draws_on_a_terminal_only(monkeypatch):
+    import io
 
-        def write(self, s):
-            self.parts.append(s)
+    from icecolumn.cli_common import progress_bar
 
-        def flush(self):
-            pass
+    for name in ("FORCE_COLOR", "TTY_COMPATIBLE", "TTY_INTERACTIVE"):  # rich would trust these over isatty()
+        monkeypatch.delenv(name, raising=False)
 
+    class Terminal(io.StringIO):
         def isatty(self):
             return True
 
-    stream = Tty()
-    bar = ProgressBar(stream)
-    for i in range(1, 1001):
-        bar(i, 1000)
-    bar.close()
-    assert 1 < len(stream.parts) <= 52
-    assert stream.parts[-2].endswith("100%") and "." not in stream.parts[-2]
-    assert stream.parts[-1] == "\n"
-    silent = ProgressBar(Tty())
-    silent.enabled = False
-    silent(5, 10)
-    silent.close()
-    assert silent.stream.parts == []
+    for terminal in (True, False):
+        stream = Terminal() if terminal else io.StringIO()
+        monkeypatch.setattr(sys, "stderr", stream)
+        with progress_bar() as bar:
+            for i in range(1, 101):
+                bar(i, 100)
+        text = stream.getvalue()
+        if terminal:
+            assert "100%" in text
+        else:
+            assert text == ""
 
 
 # --------------------------------------------------------------------------- config
@@ -282,6 +278,16 @@ def test_laws_csv_columns(folder):
     assert list(rows[0]) == ["time", "fdd", *LAW_NAMES]
     assert float(rows[0]["fdd"]) == 0.0
     assert float(rows[-1]["fdd"]) == pytest.approx(200.0)  # 10 days at 20 K below 0 degC
+
+
+def test_laws_csv_is_kept_without_overwrite_and_columns_are_mapped(folder):
+    (folder / "table.csv").write_text("keep")
+    assert_one_line_error(invoke("laws", "forcing.csv", "--csv", "table.csv"), "table.csv", "--overwrite")
+    assert (folder / "table.csv").read_text() == "keep"
+    (folder / "other.csv").write_text((folder / "forcing.csv").read_text().replace("air_temperature", "Tair", 1))
+    result = invoke("laws", "other.csv", "--column", "air_temperature=Tair", "--csv", "table.csv", "--overwrite")
+    assert result.exit_code == 0, result.output
+    assert (folder / "table.csv").read_text().startswith("time,fdd_stefan,")
 
 
 def test_laws_on_run_includes_model_and_surface_coefficient(run_file):

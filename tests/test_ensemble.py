@@ -283,3 +283,21 @@ def test_cli_checks_output_before_running(files, tmp_path):
     result = runner.invoke(app, ["ensemble", str(bad), "-o", str(out)])
     assert result.exit_code == 2 and "file exists" in result.stderr
     assert out.read_text() == "keep me"
+
+
+def test_cli_set_and_column_apply_to_the_base(files, tmp_path):
+    (tmp_path / "t.csv").write_text((files / "a.csv").read_text().replace("air_temperature", "Tair", 1))
+    (tmp_path / "fast.toml").write_text(FAST)
+    spec = tmp_path / "s.toml"
+    spec.write_text('config = "fast.toml"\nforcing = "t.csv"\n[[member]]\nname = "base"\n'
+                    '[[member]]\nname = "warm"\nset = {"ocean.heat_flux" = 20.0}\n')
+    out = tmp_path / "ens.nc"
+    result = runner.invoke(app, ["ensemble", str(spec), "-o", str(out), "--set", "grid.layers=12",
+                                 "--set", "ocean.heat_flux=5", "--column", "air_temperature=Tair"])
+    assert result.exit_code == 0, (result.stdout, result.stderr)
+    with xr.open_dataset(out) as ds:
+        assert ds.sizes["layer"] == 12
+        configs = [ic.config.config_from_toml_text(str(t)) for t in ds["member_config"].values]
+    assert [c.ocean.heat_flux for c in configs] == [5.0, 20.0]  # the member's own set wins over --set
+    bad = runner.invoke(app, ["ensemble", str(spec), "-o", str(tmp_path / "x.nc"), "--column", "air_temperature"])
+    assert bad.exit_code == 2 and "--column" in bad.stderr and "ours=theirs" in bad.stderr

@@ -204,14 +204,15 @@ def _one_line_error(result, fragment):
 
 
 def test_cli_forecast_prints_table_probability_caution_and_writes_files(folder):
-    r = _invoke("forecast", "--history", HISTORY, "--start", START, "--ice-thickness", 0.62, "--snow-thickness",
-                0.15, "--profile", SAMPLES / "thermistor_example.csv", "--salinity", SAMPLES / "core_example.csv",
+    r = _invoke("forecast", HISTORY, "--start", START, "--ice-thickness", 0.62, "--snow-thickness",
+                0.15, "--thermistor", SAMPLES / "thermistor_example.csv", "--core", SAMPLES / "core_example.csv",
                 "--until", UNTIL, "--members", 6, "--seed", 2, "-c", "fast.toml", "-o", "fc.nc",
                 "--threshold", 0.9, "--by", "2027-03-01", "--obs", SAMPLES / "drillholes.csv")
     assert r.exit_code == 0, (r.stdout, r.stderr)
     out = r.stdout
     assert ic.CAUTION in out
-    assert "median [m]" in out and "5-95 %" in out
+    table = out[out.index("ice thickness:"):].splitlines()
+    assert table[1].split() == ["date", "median", "5", "%", "95", "%"] and table[2].split() == ["UTC", "m", "m", "m"]
     assert "P(ice reaches 0.9 m by 2027-03-01)" in out and "of 6 members" in out
     assert "set aside 2 in the snow and 2 in the water" in out
     assert (folder / "fc.nc").is_file() and (folder / "fc_fan.png").stat().st_size > 10_000
@@ -219,23 +220,25 @@ def test_cli_forecast_prints_table_probability_caution_and_writes_files(folder):
     assert ds.sizes["member"] == 6 and list(ds["percentile"].values) == [5, 25, 50, 75, 95]
     # refuses to overwrite, before running
     before = (folder / "fc.nc").read_bytes()
-    r2 = _invoke("forecast", "--history", HISTORY, "--start", START, "--ice-thickness", 0.62, "-o", "fc.nc")
+    r2 = _invoke("forecast", HISTORY, "--start", START, "--ice-thickness", 0.62, "-o", "fc.nc")
     _one_line_error(r2, "file exists; use --overwrite")
     assert (folder / "fc.nc").read_bytes() == before
 
 
 def test_cli_forecast_bad_inputs(folder):
-    base = ("forecast", "--history", HISTORY, "--start", START, "--until", UNTIL, "-c", "fast.toml")
+    base = ("forecast", HISTORY, "--start", START, "--until", UNTIL, "-c", "fast.toml")
     _one_line_error(_invoke(*base, "--ice-thickness", -0.2), "--ice-thickness")
     _one_line_error(_invoke(*base, "--ice-thickness", 11), "more than 10 m")
+    _one_line_error(_invoke(*base, "--ice-thickness", 0.6, "--set", "grid.layerz=3"), "did you mean 'layers'")
+    _one_line_error(_invoke(*base, "--ice-thickness", 0.6, "--column", "air_temperature=nosuch"), "'nosuch'")
     therm = folder / "therm.csv"
     therm.write_text("depth,temperature\n-0.2,-25\n1.5,-1.8\n")
-    _one_line_error(_invoke(*base, "--ice-thickness", 0.6, "--profile", therm), "no thermistor reading inside the ice")
+    _one_line_error(_invoke(*base, "--ice-thickness", 0.6, "--thermistor", therm), "no thermistor reading inside the ice")
     short = folder / "short.csv"
     lines = HISTORY.read_text().splitlines()
     keep = [ln for ln in lines if ln.startswith("#") or ln.startswith("time") or ln[:4] in ("2024", "2025", "2026")]
     short.write_text("\n".join(keep) + "\n")
-    _one_line_error(_invoke("forecast", "--history", short, "--start", START, "--until", UNTIL,
+    _one_line_error(_invoke("forecast", short, "--start", START, "--until", UNTIL,
                             "--ice-thickness", 0.6), "at least 5 needed")
     assert not any(folder.glob("*.nc"))
 

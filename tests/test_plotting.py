@@ -342,49 +342,10 @@ def test_plot_run_rejects_unknown_format(ds, tmp_path):
     assert list(tmp_path.iterdir()) == []
 
 
-# --------------------------------------------------------------------------- checks / open
+# --------------------------------------------------------------------------- checks
 
 
-def test_check_rejects_missing_variable(ds):
+def test_plots_refuse_a_dataset_without_their_variables(ds):
     broken = ds.drop_vars("brine_salinity")
-    with pytest.raises(InputError) as err:
-        plotting.check_output_dataset(broken, source="run.nc")
-    msg = str(err.value)
-    assert msg.startswith("run.nc:") and "brine_salinity" in msg and "\n" not in msg
     with pytest.raises(InputError, match="brine_salinity"):
         plotting.plot_sections(broken)
-
-
-def test_check_rejects_foreign_file(ds):
-    foreign = ds.copy()
-    del foreign.attrs["icecolumn_version"]
-    with pytest.raises(InputError) as err:
-        plotting.check_output_dataset(foreign, source="file.nc")
-    assert str(err.value) == "file.nc: not an icecolumn output file (no icecolumn_version attribute)"
-
-
-def test_check_accepts_valid(ds):
-    assert plotting.check_output_dataset(ds, source="x.nc") is ds
-
-
-def test_open_output_roundtrip_and_errors(ds, tmp_path):
-    path = tmp_path / "run.nc"
-    ds.to_netcdf(path)
-    opened = plotting.open_output(path)
-    np.testing.assert_allclose(opened["ice_thickness"].values, ds["ice_thickness"].values)
-    assert np.issubdtype(opened["time"].dtype, np.datetime64)
-    fig = plotting.plot_thickness(opened)
-    assert len(fig.axes[0].get_lines()) == 1
-
-    with pytest.raises(InputError, match="file not found"):
-        plotting.open_output(tmp_path / "absent.nc")
-    junk = tmp_path / "junk.nc"
-    junk.write_text("this is not netcdf\n")
-    with pytest.raises(InputError) as err:
-        plotting.open_output(junk)
-    assert str(junk) in str(err.value) and "\n" not in str(err.value)
-
-    other = tmp_path / "other.nc"
-    ds.drop_vars("salt_flux").to_netcdf(other)
-    with pytest.raises(InputError, match=r"other\.nc: missing variable\(s\) salt_flux"):
-        plotting.open_output(other)

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 from icecolumn.errors import InputError
-from icecolumn.observations import read_profile_points
+from icecolumn.profiles import read_profile_points
 
 
 def test_thermistor_points(tmp_path):

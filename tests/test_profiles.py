@@ -14,8 +14,8 @@ import pytest
 import icecolumn as ic
 from icecolumn import model
 from icecolumn.errors import InputError
-from icecolumn.forecast import run_forecast
-from icecolumn.profiles import first_year_salinity, initial_profile, read_core, read_thermistor
+from icecolumn.forecast import initial_profile, run_forecast
+from icecolumn.profiles import first_year_salinity, read_core, read_thermistor
 
 SAMPLES = Path(__file__).resolve().parent.parent / "forcing_samples"
 THERMISTOR = SAMPLES / "thermistor_example.csv"

@@ -208,8 +208,3 @@ class StateView:
 def view(y: np.ndarray, n: int) -> StateView:
     """:class:`StateView` of ``y`` for ``n`` layers."""
     return StateView(y, n)
-
-
-def new_states(members: int, n: int) -> np.ndarray:
-    """Zero state vectors, shape (members, state_size(n))."""
-    return np.zeros((members, state_size(n)))

@@ -479,6 +479,13 @@ class OutputSection(_Section):
     section: ClassVar[str] = "output"
     interval: str = setting("6h", "", "time between output records (e.g. 30min, 1h, 6h, 1D)", "duration",
                             multiple_of=60.0)
+    slush_liquid_fraction: float = setting(
+        0.5, "1", "ice_thickness counts ice with a larger liquid fraction (the porous bottom, slush) by its solid "
+        "fraction, (1 - phi)/(1 - this), so the base sits where the ice becomes more brine than ice (a model "
+        "choice)", "float", 0.0, 1.0, True)
+    load_bearing_liquid_fraction: float = setting(
+        0.2, "1", "load_bearing_thickness counts only ice whose liquid fraction is at most this (flexural strength "
+        "falls to about a sixth of cold ice at 0.2: Timco & O'Brien 1994)", "float", 0.0, 1.0, True)
 
 
 @dataclass(frozen=True)

@@ -18,14 +18,17 @@ from .constants import SEAWATER_DENSITY
 from .ocean import mixed_layer_temperature_salinity
 from ._version import __version__
 from .textfile import check_new_output, write_atomically
+from .thickness import load_bearing_thickness, slush_discounted_thickness
 
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
            "and follow local ice-safety rules and qualified guidance.")
 
 THICKNESS_DEFINITION = (
-    "ice_thickness is the depth of the tracked ice-ocean interface below the ice surface, where the "
-    "mushy bottom reaches the ocean freezing temperature (liquid fraction -> 1); the porous bottom is "
-    "part of the ice, so depth means over the layers include it with equal weight per layer.")
+    "ice_thickness counts the ice from its surface down to the ice-ocean interface (interface_depth), the "
+    "porous bottom and slush with a liquid fraction above [output] slush_liquid_fraction by their solid "
+    "fraction only, so the base sits where the ice becomes more brine than ice (icecolumn.thickness); "
+    "load_bearing_thickness counts only ice with a liquid fraction up to [output] load_bearing_liquid_fraction. "
+    "Layers and depths span the whole mush down to interface_depth.")
 
 
 def _attrs(units, long_name, standard_name=None, cell_methods=None, **more):
@@ -88,8 +91,25 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     cm = "time: mean (interval ending at each time)"
     cum = "cumulative since the start of the run"
     v = {}
-    v["ice_thickness"] = (dims_t, h, _attrs("m", "ice thickness (depth of the ice-ocean interface)",
-                                            "sea_ice_thickness", comment=THICKNESS_DEFINITION))
+    s_ocean = np.array([c.ocean.salinity for c in raw.configs], dtype=float)[:, None] * np.ones(h.shape)
+    if any(c.ocean.mixed_layer_depth > 0 for c in raw.configs):
+        _t_ml, s_ml_now = mixed_layer_temperature_salinity(slot("mixed_layer_enthalpy"), slot("mixed_layer_mass"),
+                                                            slot("mixed_layer_salt"), 1.0)
+        s_ocean = np.where(np.isfinite(s_ml_now), s_ml_now, s_ocean)
+    slush = np.array([c.output.slush_liquid_fraction for c in raw.configs])
+    bearing = np.array([c.output.load_bearing_liquid_fraction for c in raw.configs])
+    profiles = (raw.liquid_fraction, raw.temperature, raw.bulk_salinity, h, s_ocean)
+    h_ice = np.stack([slush_discounted_thickness(*(x[i] for x in profiles), slush[i]) for i in range(nm)])
+    h_bearing = np.stack([load_bearing_thickness(*(x[i] for x in profiles), bearing[i]) for i in range(nm)])
+    v["ice_thickness"] = (dims_t, h_ice, _attrs("m", "ice thickness (the porous bottom counted by its solid fraction)",
+                                                "sea_ice_thickness", comment=THICKNESS_DEFINITION))
+    v["interface_depth"] = (dims_t, h, _attrs("m", "depth of the ice-ocean interface below the ice surface",
+                                              comment="the tracked base of the mushy layer, at the ocean freezing "
+                                                      "point and a liquid fraction of 1; 0 in open water"))
+    v["load_bearing_thickness"] = (dims_t, h_bearing,
+                                   _attrs("m", "thickness of ice with a liquid fraction of at most "
+                                               "[output] load_bearing_liquid_fraction",
+                                          comment="a model estimate, not a measurement: " + CAUTION))
     v["snow_thickness"] = (dims_t, snow, _attrs("m", "snow thickness on the ice", "surface_snow_thickness"))
     v["surface_temperature"] = (dims_t, raw.surface_temperature,
                                 _attrs("degC", "temperature of the upper (snow or ice) surface",
@@ -102,7 +122,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["sea_ice_area_fraction"] = (dims_t, ice.astype(np.float64),
                                   _attrs("1", "ice cover of the column (1 ice, 0 open water)", "sea_ice_area_fraction",
                                          comment="open water after complete melt-out, until new ice forms"))
-    v["growth_rate"] = (dims_t, _interval_rate(h, tsec),
+    v["growth_rate"] = (dims_t, _interval_rate(h_ice, tsec),
                         _attrs("m s-1", "rate of change of ice thickness",
                                "tendency_of_sea_ice_thickness_due_to_thermodynamics", cm))
     v["ocean_heat_flux"] = (dims_t, _interval_rate(e_ocean, tsec),

@@ -113,7 +113,7 @@ def test_run_set_and_column_options(folder):
     assert result.exit_code == 0, result.output
     with xr.open_dataset("other.nc") as ds:
         assert ds.sizes["layer"] == 12
-        assert float(ds["ice_thickness"].values[0]) == pytest.approx(0.1)
+        assert float(ds["interface_depth"].values[0]) == pytest.approx(0.1)
 
 
 def test_existing_output_is_refused_and_kept(folder):

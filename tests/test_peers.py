@@ -56,10 +56,11 @@ def test_front_fixing_converges_second_order(method):
 
 def test_icecolumn_side_converges_to_neumann():
     case = icecolumn_side.P1Case(PROB)
-    errs = [PROB.error(case.run(n, 1e-4)["h"]) for n in (10, 20, 40)]
-    print(f"\nicecolumn P1 errors at 10/20/40 layers ({case.initial_profile} start): {errs}")
+    # with a tight tolerance the layer error dominates and falls with refinement (second order)
+    errs = [PROB.error(case.run(n, 1e-9)["h"]) for n in (4, 8, 16)]
+    print(f"\nicecolumn P1 errors at 4/8/16 layers ({case.initial_profile} start): {errs}")
     assert errs[0] > errs[1] > errs[2]
-    assert errs[0] < 1e-2
+    assert errs[0] < 1e-3
 
 
 def test_linear_liquidus_inversion_round_trip():

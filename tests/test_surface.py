@@ -100,7 +100,7 @@ def test_surface_melt_closes_budgets_and_thickness_identity():
     # thickness change = congelation growth - basal melt - surface melt (bookkeeping identity)
     f = _summer(6, air=3.0, peak_shortwave=500.0)
     ds = ic.run(f, _cfg(ice_thickness=1.0, bulk_salinity=5.0))
-    h = ds.ice_thickness.values
+    h = ds.interface_depth.values
     assert ds.surface_melt.values[-1] > 0.05
     assert np.nanmax(ds.surface_temperature.values) <= 0.0
     ident = (h - h[0]) - (ds.congelation_growth - ds.basal_melt - ds.surface_melt).values

@@ -81,7 +81,7 @@ def test_year_melts_out_and_freezes_again(year_run):
     assert float(ds.surface_melt[first_open]) > 0.3
     grown = ds.congelation_growth.values + ds.snow_ice_growth.values
     lost = ds.surface_melt.values + ds.basal_melt.values
-    np.testing.assert_allclose(h, grown - lost, atol=1e-9)
+    np.testing.assert_allclose(ds.interface_depth.values, grown - lost, atol=1e-9)
     check_budgets(ds)
 
 
@@ -111,7 +111,7 @@ def test_year_with_mixed_layer_closes_ice_and_ocean_budgets(two_years_ml):
     salt = ds.salt_content.values + slot("mixed_layer_salt")
     assert np.max(np.abs(salt - salt[0] - slot("salt_mixed_layer_deep"))) <= 1e-12 * salt[0]
     # mass: ice + snow + mixed layer change only by snowfall
-    mass = rho * ds.ice_thickness.values + rho_s * slot("snow_thickness") + slot("mixed_layer_mass")
+    mass = rho * ds.interface_depth.values + rho_s * slot("snow_thickness") + slot("mixed_layer_mass")
     assert np.max(np.abs(mass - mass[0] - slot("snowfall"))) <= 1e-12 * mass[0]
     # brine rejection makes the mixed layer saltier in winter, melt water fresher in summer
     s_ml = ds.mixed_layer_salinity.values
@@ -166,7 +166,7 @@ def test_flooding_restores_zero_freeboard_with_the_hydrostatic_amount():
     assert si == pytest.approx(d, rel=1e-3)
     assert abs(float(ds.freeboard.values[-1])) < 1e-4
     assert float(ds.snow_thickness.values[-1]) == pytest.approx(0.3 - si, abs=1e-9)
-    assert float(ds.ice_thickness.values[-1]) == pytest.approx(0.3 + si, abs=2e-3)
+    assert float(ds.interface_depth.values[-1]) == pytest.approx(0.3 + si, abs=2e-3)
     # salt and energy of the flooding sea water (at S_w, T_f) and snow (at T_f) are counted
     sw = cfg.ocean.salinity
     pr = cfg.properties
@@ -296,12 +296,13 @@ def test_ten_years_with_mixed_layer_settle_into_a_cycle(year_forcing):
 @pytest.mark.slow
 def test_multiyear_ice_approaches_an_equilibrium(year_forcing):
     cold = year_forcing.copy()
-    # a colder variant (2 K colder all year): the ice survives the summer.  Measured over 30
-    # years (not in the test): the annual maximum settles at 2.42 m (minimum 1.75 m) by about
-    # year 25; with 3 K colder it is still growing by 2-4 cm a year after 40 years (5 m of ice)
+    # a colder variant (2 K colder all year): the ice survives the summer and thickens towards an
+    # equilibrium where the summer melt balances the winter growth (invented forcing; a regression
+    # check of our own: the annual maximum settles at 2.42 m, minimum 1.75 m, by year 25; the same
+    # with the first-order layer fluxes of icecolumn 0.x and with these second-order ones)
     cold["air_temperature"] = cold["air_temperature"] - 2.0
     cfg = ic.default_config().replace("initial", ice_thickness=0.0).replace("output", interval="1D")
-    years = 10
+    years = 30
     ds = ic.run(repeat_forcing(cold, years), cfg)
     check_budgets(ds)
     m = _annual_maxima(ds, years)
@@ -310,16 +311,11 @@ def test_multiyear_ice_approaches_an_equilibrium(year_forcing):
         print(f"year {y + 1}: maximum {m[y, 0]:.4f} m, minimum {m[y, 2]:.3f} m"
               + (f", change {change[y - 1]:+.4f} m" if y else ""))
     assert np.all(m[1:, 2] > 0.5)  # multi-year ice: it never melts out after the first summer
-    assert np.all(change > 0)
-    # after year 3 the year-to-year change shrinks every year
-    assert np.all(np.diff(change[2:]) < 0), change
-    ratio = change[-1] / change[-2]
-    equilibrium = m[-1, 0] + change[-1] * ratio / (1.0 - ratio)
-    print(f"change ratio {ratio:.3f}; geometric extrapolation of the equilibrium maximum {equilibrium:.3f} m")
-    assert 0 < ratio < 1
-    # the extrapolation from 10 years agrees with the 30-year run quoted above (our own
-    # measurement, a regression check): 2.42 m within 5 %
-    assert equilibrium == pytest.approx(2.42, rel=0.05)
+    assert np.all(change[:20] > 0)  # it thickens for two decades ...
+    assert change[:5].mean() > 5 * change[10:15].mean() > 0  # ... ever more slowly ...
+    assert np.ptp(m[-5:, 0]) < 0.01  # ... and has settled in the last five years
+    assert m[-1, 0] == pytest.approx(2.42, rel=0.05)
+    assert m[-1, 2] == pytest.approx(1.75, rel=0.05)
 
 
 def test_cli_repeat_runs_the_forcing_end_to_end(tmp_path):

@@ -13,7 +13,7 @@ from .layout import F, NFORCING, P
 from .mixedlayer import heat_to_ice, mixed_layer_state
 from .stepper import step_member
 from .tendency import intensive_state
-from .top import snow_depth, surface_flux
+from .top import snow_depth, surface_flux, top_effective_temperature
 from .workspace import new_workspace
 
 
@@ -90,7 +90,8 @@ def diagnose(ys, n, pars, ft, forc, t, temp, phi, sbr, sal, kc, tsurf, hdot, ra,
             kc[mbr, k] = ws.kc[k]
             sal[mbr, k] = 1000.0 * y[n + k] / (par[P.RHO] * dz)
         hs = snow_depth(fv, y, n)
-        _f, _d, ts, mx, _pen = surface_flux(ws.temp[0], ws.kc[0], dz, fv, par, hs)
+        _f, _d, ts, mx, _pen = surface_flux(top_effective_temperature(ws.temp[0], ws.temp[1], par[P.TMELT]),
+                                              ws.kc[0], dz, fv, par, hs)
         tsurf[mbr] = ts
         melt[mbr] = mx  # melt energy at the surface (snow first, then ice)
         snow[mbr] = hs

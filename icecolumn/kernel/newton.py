@@ -36,8 +36,9 @@ def stage_solve(y, base, a_dt, n, par, fv, fw, f, ws, maxit, a_in, af):
         for i in range(ncell):
             rhsv[0, i] = -(y[i] - base[i] - a_dt * f[i])
         res_h = -(y[2 * n] - base[2 * n] - a_dt * (r - atop))
-        hd, dhd_de, dhd_dm, dhd_dh = basal_velocity(y, n, par, fw, ws.temp[n - 1], ws.kc[n - 1], ws.dtde[n - 1],
-                                                    ws.dtdm[n - 1])
+        hd, dhd_de, dhd_dm, dhd_de1, dhd_dm1, dhd_dh = basal_velocity(
+            y, n, par, fw, ws.temp[n - 1], ws.temp[n - 2], ws.kc[n - 1], ws.dtde[n - 1], ws.dtdm[n - 1],
+            ws.dtde[n - 2], ws.dtdm[n - 2])
         res_r = -(r - hd)
         # border column for h: analytic d f / d h at fixed contents and r (conduction,
         # advection and melt terms through the layer thickness h/n; the small dependence of
@@ -51,23 +52,21 @@ def stage_solve(y, base, a_dt, n, par, fv, fw, f, ws, maxit, a_in, af):
         jacobian(y, r, atop, amelt, n, df0, a_dt, par, ws)
         block_solve(n, ws.lo, ws.di, ws.up, rhsv, 3, ws.work_m, ws.work_g)
         # Schur complement: unknowns (dh, dr); rows h: dh - a_dt dr = res_h
-        # row r: -dhd_de dx_e_b - dhd_dm dx_m_b - dhd_dh dh + dr = res_r
-        # with dx = X1 - X2 [dh, dr]
-        x1e = rhsv[0, n - 1]
-        x1m = rhsv[0, 2 * n - 1]
-        x2he = rhsv[1, n - 1]
-        x2hm = rhsv[1, 2 * n - 1]
-        x2re = rhsv[2, n - 1]
-        x2rm = rhsv[2, 2 * n - 1]
+        # row r: -sum_i dhd_di dx_i - dhd_dh dh + dr = res_r over the two bottom layers' contents,
+        # with dx = X1 - X2h dh - X2r dr from the block solve
         s00 = 1.0
         s01 = -a_dt
-        s10 = -dhd_dh + dhd_de * x2he + dhd_dm * x2hm
-        s11 = 1.0 + dhd_de * x2re + dhd_dm * x2rm
-        g0 = res_h
-        g1 = res_r + dhd_de * x1e + dhd_dm * x1m
+        s10 = -dhd_dh
+        s11 = 1.0
+        b0 = res_h
+        b1 = res_r
+        for idx, dd in ((n - 1, dhd_de), (2 * n - 1, dhd_dm), (n - 2, dhd_de1), (2 * n - 2, dhd_dm1)):
+            s10 += dd * rhsv[1, idx]
+            s11 += dd * rhsv[2, idx]
+            b1 += dd * rhsv[0, idx]
         det = s00 * s11 - s01 * s10
-        ddh = (g0 * s11 - s01 * g1) / det
-        ddr = (s00 * g1 - s10 * g0) / det
+        ddh = (b0 * s11 - s01 * b1) / det
+        ddr = (s00 * b1 - s10 * b0) / det
         for i in range(ncell):
             ftmp[i] = rhsv[0, i] - rhsv[1, i] * ddh - rhsv[2, i] * ddr
         ftmp[2 * n] = ddh

@@ -34,7 +34,8 @@ from .layout import NSLOT, P
 from .mixedlayer import add_mixed_layer
 from .snowice import add_snow_ice
 from .top import add_top_budgets, add_top_dh_column, add_top_fluxes, top_flux_blocks, top_melt_blocks, top_state
-from .transport import divergence, interior_face_fluxes, transport_blocks, transport_dh_faces, transport_dr_faces
+from .transport import divergence, interior_face_fluxes, transport_blocks, transport_dh_faces, transport_dr_faces, \
+    upwind_weights
 
 
 @jit
@@ -72,8 +73,9 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
     value computes it here.  ``af`` >= 0 is the rate of snow-ice formation at the top [m s-1]
     (also held over a step); the top of the ice moves down at ``a - af``.  If ``want_cells`` the
     intensive arrays are (re)computed first.  If ``fresh_flow`` the drainage flow (Rayleigh
-    numbers, channel and return fluxes) is computed from the state, else the flow in the
-    workspace is used (a frozen flow: what the Jacobian differentiates).  ``fw`` is the heat flux
+    numbers, channel and return fluxes) and the upwind weights of the grid advection are computed
+    from the state, else those in the workspace are used (frozen transport coefficients: what
+    the Jacobian differentiates).  ``fw`` is the heat flux
     into the ice base; with a mixed layer the forcing's ocean heat flux enters the mixed layer
     from below instead.
     Returns the surface temperature, the derivative of the surface flux w.r.t. the top
@@ -83,7 +85,7 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
         intensive_state(y, n, par, ws)
     temp = ws.temp
     kc = ws.kc
-    f0, df0, ts, melt, fsnow, a, used, pen = top_state(y, n, par, fv, temp[0], kc[0], a_in)
+    f0, df0, ts, melt, fsnow, a, used, pen = top_state(y, n, par, fv, temp[0], temp[1], kc[0], a_in)
     anet = a - af
     for i in range(2 * n + 1 + NSLOT):
         f[i] = 0.0
@@ -91,7 +93,9 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
     add_snow_ice(f, n, par, af)
     fe = ws.sc[1]
     fm = ws.sc[2]
-    interior_face_fluxes(y, r, anet, n, kc, temp, fe, fm)
+    if fresh_flow:
+        upwind_weights(y, r, anet, n, ws.beta)
+    interior_face_fluxes(y, r, anet, n, kc, temp, ws.beta, fe, fm)
     drain = int(par[P.DRAIN]) != 0
     if drain:
         if fresh_flow:
@@ -132,9 +136,9 @@ def dh_column(y, r, a, amelt, n, par, g0, ws, df0, col):
         dtdh[k] = -(ws.dtde[k] * y[k] + ws.dtdm[k] * y[n + k]) * ih  # intensive state thins with h
     ge = ws.sc[3]
     gm = ws.sc[4]
-    transport_dh_faces(y, r, a, n, ws.temp, dtdh, ws.kc, ge, gm)
+    transport_dh_faces(y, r, a, n, ws.temp, dtdh, ws.kc, ws.beta, ge, gm)
     divergence(ge, gm, n, col, False)
-    add_top_dh_column(col, y, n, g0, ws.kc, df0, dtdh, amelt)
+    add_top_dh_column(col, y, n, g0, ws.kc, df0, dtdh, amelt, ws.temp, par[P.TMELT])
     add_base_dh_column(col, y, r, n)
     if int(par[P.DRAIN]) != 0:
         add_drainage_dh_column(col, n, par, ws.wflux, ws.qsink, ws.temp, ws.phi, ws.sbr, dtdh, h)
@@ -147,7 +151,7 @@ def dr_column(y, r, a, n, par, ws, col):
     """d f_cells / d r (the rhs is piecewise linear in r); ``a`` the net downward velocity of the top."""
     ge = ws.sc[3]
     gm = ws.sc[4]
-    transport_dr_faces(y, r, a, n, ge, gm)
+    transport_dr_faces(y, r, a, n, ws.beta, ge, gm)
     divergence(ge, gm, n, col, False)
     add_base_dr_column(col, y, r, n, par)
 
@@ -167,8 +171,8 @@ def jacobian(y, r, a, amelt, n, df0, a_dt, par, ws):
             lo[k, p] = 0.0
             di[k, p] = 0.0
             up[k, p] = 0.0
-    top_flux_blocks(di, df0, ws.dtde, ws.dtdm)
-    transport_blocks(y, r, a, n, ws.dtde, ws.dtdm, ws.kc, lo, di, up)
+    top_flux_blocks(di, up, df0, ws.dtde, ws.dtdm, ws.temp, par[P.TMELT])
+    transport_blocks(y, r, a, n, ws.dtde, ws.dtdm, ws.kc, ws.beta, lo, di, up)
     base_blocks(di, r, n, dz)
     top_melt_blocks(di, amelt, dz)
     if int(par[P.DRAIN]) != 0:

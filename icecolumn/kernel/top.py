@@ -1,9 +1,16 @@
-"""Upper boundary: conduction from the surface scheme through the snow, surface melt, snow mass.
+r"""Upper boundary: conduction from the surface scheme through the snow, surface melt, snow mass.
 
 Face 0 of the column takes the conductive flux ``F_0`` of the surface scheme (prescribed
 surface temperature, linear air-to-surface transfer, or the energy balance of
-:mod:`icecolumn.surface`) through an optional snow slab of conductivity ``k_s`` and the upper
-half of the top layer.  A surface held at its melting point melts: the melt energy goes to the
+:mod:`icecolumn.surface`) through an optional snow slab of conductivity ``k_s`` and the top of
+the ice.  The gradient at the top of the ice is the one-sided second-order closure for cell
+averages, exact for a quadratic profile (common practice, no source):
+
+.. math:: \partial_z T|_0 = (-6 T_b + 7 \bar T_1 - \bar T_2)/(2\Delta), \qquad
+          F_0 = k_1 \partial_z T = (T_b - T_e)/(\Delta/(3 k_1)), \quad T_e = (7\bar T_1 - \bar T_2)/6,
+
+so the ice side is a resistance ``Delta/(3 k_1)`` from the face to the extrapolated temperature
+``T_e``, in series with the snow ``h_s/k_s``.  A surface held at its melting point melts: the melt energy goes to the
 snow first (handed smoothly to the ice while the last :data:`~icecolumn.surface.SNOW_COVER_THICKNESS`
 of snow melts), then moves the top interface down at ``a = melt energy / (H_water - H_1)`` with
 melt water at 0 degC (H = 0) carrying the top layer's salt away.
@@ -33,15 +40,34 @@ def snow_depth(fv, y, n):
 
 
 @jit
+def top_effective_temperature(t0, t1, tm):
+    """Temperature [degC] the second-order top closure conducts to: (7 T_1 - T_2)/6 of the two top
+    layers, at most the surface melting point ``tm`` (the extrapolation of a strongly curved
+    profile must not put the top of the ice above its melting point)."""
+    te = (7.0 * t0 - t1) / 6.0
+    return te if te < tm else tm
+
+
+@jit
+def _closure_weights(t0, t1, tm):
+    """d T_e / d T_1 and d T_e / d T_2 of :func:`top_effective_temperature` (0 where capped)."""
+    if (7.0 * t0 - t1) / 6.0 < tm:
+        return 7.0 / 6.0, -1.0 / 6.0
+    return 0.0, 0.0
+
+
+@jit
 def surface_flux(t0, k0, dz, fv, par, hs):
     """Downward flux into the top layer, its derivative w.r.t. T0, the surface temperature, the
     melt energy flux the capped surface could not take, and the penetrating shortwave [W m-2].
 
     The flux includes the shortwave that penetrates the surface (energy balance scheme); the
-    rest of it is conduction from the surface to the top layer's centre.
+    rest of it is conduction from the surface to ``t0``, the effective temperature of the
+    second-order closure (:func:`top_effective_temperature`), and ``df`` is the derivative w.r.t.
+    ``t0``.
     """
     rs = hs / par[P.KSNOW] if hs > 0.0 else 0.0
-    rc = 0.5 * dz / k0 + rs  # resistance surface -> top-layer centre
+    rc = dz / (3.0 * k0) + rs  # resistance surface -> effective temperature of the top closure
     tm = par[P.TMELT]
     scheme = int(par[P.SURF])
     ta = fv[F.AIR]
@@ -111,11 +137,11 @@ def surface_melt_rate(y, n, par, melt_energy):
 
 
 @jit
-def top_state(y, n, par, fv, temp0, k0, a_in):
+def top_state(y, n, par, fv, temp0, temp1, k0, a_in):
     """Fluxes of the upper boundary.
 
     Returns ``(f0, df0, ts, melt, fsnow, a, used, pen)``: the flux into the top layer [W m-2]
-    and its derivative w.r.t. the top temperature, the surface temperature [degC], the melt
+    and its derivative w.r.t. the closure's effective temperature, the surface temperature [degC], the melt
     energy flux [W m-2], the fraction of it that melts snow, the surface melt rate of the ice
     [m s-1] (``a_in`` if >= 0, the rate held over a step), the melt energy used on the ice and
     the penetrating shortwave included in ``f0`` [W m-2].
@@ -123,7 +149,8 @@ def top_state(y, n, par, fv, temp0, k0, a_in):
     h = y[2 * n]
     dz = h / n
     hs = snow_depth(fv, y, n)
-    f0, df0, ts, melt, pen = surface_flux(temp0, k0, dz, fv, par, hs)
+    te = top_effective_temperature(temp0, temp1, par[P.TMELT])
+    f0, df0, ts, melt, pen = surface_flux(te, k0, dz, fv, par, hs)
     # melt energy goes to the snow first (smoothly handed to the ice as the last cm melts)
     fsnow = hs / SNOW_COVER_THICKNESS if hs < SNOW_COVER_THICKNESS else 1.0
     a = surface_melt_rate(y, n, par, (1.0 - fsnow) * melt) if a_in < 0.0 else a_in
@@ -161,10 +188,16 @@ def add_top_budgets(f, y, n, par, fv, f0, used, s_top, a, af, fsnow, melt):
 
 
 @jit
-def top_flux_blocks(di, df0, dtde, dtdm):
-    """Jacobian of the surface conduction w.r.t. the top layer's contents."""
-    di[0, 0] += df0 * dtde[0]
-    di[0, 1] += df0 * dtdm[0]
+def top_flux_blocks(di, up, df0, dtde, dtdm, temp, tm):
+    """Jacobian of the surface conduction w.r.t. the contents of the two top layers (through the
+    effective temperature (7 T_1 - T_2)/6)."""
+    w0, w1 = _closure_weights(temp[0], temp[1], tm)
+    c0 = df0 * w0
+    c1 = df0 * w1
+    di[0, 0] += c0 * dtde[0]
+    di[0, 1] += c0 * dtdm[0]
+    up[0, 0] += c1 * dtde[1]
+    up[0, 1] += c1 * dtdm[1]
 
 
 @jit
@@ -176,13 +209,14 @@ def top_melt_blocks(di, amelt, dz):
 
 
 @jit
-def add_top_dh_column(col, y, n, g0, kc, df0, dtdh, amelt):
+def add_top_dh_column(col, y, n, g0, kc, df0, dtdh, amelt, temp, tm):
     """d f / d h of the upper boundary at fixed contents (conduction ``g0`` [W m-2] through the
     top half layer, melt energy and melt-water salt through the layer thickness)."""
     h = y[2 * n]
     ih = 1.0 / h
     idz = n * ih
     used = amelt * (-y[0] * idz)
-    # conduction g0 through the resistance rc = dz/(2 k0) + snow: d g0 / d rc = g0 d g0 / d T0
-    col[0] += df0 * dtdh[0] + g0 * df0 / (2.0 * kc[0] * n) - used * ih
+    # conduction g0 through rc = dz/(3 k0) + snow to T_e: d g0 / d rc = g0 d g0 / d T_e
+    w0, w1 = _closure_weights(temp[0], temp[1], tm)
+    col[0] += df0 * (w0 * dtdh[0] + w1 * dtdh[1]) + g0 * df0 / (3.0 * kc[0] * n) - used * ih
     col[n] += amelt * y[n] * idz * ih

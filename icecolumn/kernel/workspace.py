@@ -10,12 +10,12 @@ from .layout import NFORCING
 
 #: Fields of the workspace: per-layer intensive state (``temp``, ``phi``, ``sbr``, ``kc``) and
 #: temperature derivatives (``dtde``, ``dtdm``); drainage (``wflux`` per interface, ``qsink``,
-#: ``ra`` per layer); face scratch ``sc`` (9, n + 1); Jacobian blocks (``lo``, ``di``, ``up``,
+#: ``ra`` per layer); upwind weights of the grid advection per interface (``beta``); face scratch ``sc`` (9, n + 1); Jacobian blocks (``lo``, ``di``, ``up``,
 #: ``work_m``, ``work_g``: (n, 4)), Newton right-hand sides ``rhs`` (3, 2n), border column
 #: ``col_r`` (2n); stage vectors of the state's length (``f1``, ``f2``, ``f3``, ``y2``, ``y3``,
 #: ``base``, ``ytmp``, ``ftmp``, ``err``); forcing at the three stage times (``fv1``..``fv3``).
 Workspace = namedtuple("Workspace", [
-    "temp", "phi", "sbr", "dtde", "dtdm", "kc", "wflux", "qsink", "ra", "sc",
+    "temp", "phi", "sbr", "dtde", "dtdm", "kc", "wflux", "qsink", "ra", "beta", "sc",
     "lo", "di", "up", "work_m", "work_g", "rhs", "col_r",
     "f1", "f2", "f3", "y2", "y3", "base", "ytmp", "ftmp", "err",
     "fv1", "fv2", "fv3"])
@@ -27,7 +27,7 @@ def new_workspace(n, ny):
     enthalpy inversion (``temp`` NaN)."""
     ncell = 2 * n
     ws = Workspace(np.empty(n), np.empty(n), np.empty(n), np.empty(n), np.empty(n), np.empty(n),
-                   np.empty(n + 1), np.empty(n), np.empty(n), np.empty((9, n + 1)),
+                   np.empty(n + 1), np.empty(n), np.empty(n), np.full(n + 1, 0.5), np.empty((9, n + 1)),
                    np.empty((n, 4)), np.empty((n, 4)), np.empty((n, 4)), np.empty((n, 4)), np.empty((n, 4)),
                    np.empty((3, ncell)), np.empty(ncell),
                    np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny),

@@ -557,7 +557,7 @@ def config_command(
 
 # Commands that live in their own modules register themselves on ``app``: each module
 # ``icecolumn/cli_<name>.py`` has ``register(app)``.  Add a module name here to enable it.
-_COMMAND_MODULES: tuple[str, ...] = ("ensemble", "check", "forecast")
+_COMMAND_MODULES: tuple[str, ...] = ("ensemble", "check", "forecast", "buoy")
 for _name in _COMMAND_MODULES:
     importlib.import_module(f"icecolumn.cli_{_name}").register(app)
 

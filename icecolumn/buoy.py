@@ -38,7 +38,8 @@ spring 1979), used with thermistor strings by Perovich et al. (1997, GRL 24(5), 
 and for the SHEBA year by Perovich & Elder (2002, GRL 29(9), 1344, doi:10.1029/
 2001GL014171); the buoy design with thermistors and acoustic sounders is Richter-Menge
 et al. (2006, Ann. Glaciol. 44, 205-210; 0.1 K thermistor accuracy, 5 mm sounder
-accuracy, from memory).  The form above is written for this project's enthalpy (phase
+accuracy, from memory).  Titles and abstracts of these papers were checked; volumes,
+pages and the details of their methods are from memory.  The form above is written for this project's enthalpy (phase
 module, reference liquid at 0 degC): :math:`H_{new}` is the mean enthalpy of the ice
 grown (or melted) in the window at the temperatures the sensors read across that layer
 and the bottom's bulk salinity, so :math:`\rho L_{eff}` is the enthalpy difference
@@ -72,6 +73,7 @@ import xarray as xr
 
 from .constants import BRINE_SPECIFIC_HEAT, ICE_DENSITY, ICE_SPECIFIC_HEAT, LATENT_HEAT, OCEAN_SALINITY
 from .errors import InputError
+from .output import CAUTION
 from .phase import liquidus_temperature, state_enthalpy
 from .profiles import FIRST_YEAR_SALINITY_SOURCE, first_year_salinity
 from .properties import conductivity
@@ -84,11 +86,9 @@ __all__ = [
     "interfaces", "window_bounds", "heat_budget", "record_mean", "synthetic_string",
 ]
 
-#: The caution printed with every buoy result (and the model's own caution).
+#: The caution printed with every buoy result (followed by the model's own caution).
 CAUTION_FLUX = ("A flux estimate is not a measurement: the ocean heat flux is the residual of measured "
-                "temperatures and interface positions with assumed salinity and ice properties. "
-                "A model estimate is not a measurement: drill and measure the ice before going on it, "
-                "and follow local ice-safety rules and qualified guidance.")
+                "temperatures and interface positions with assumed salinity and ice properties. " + CAUTION)
 
 #: Window quality flags (CF flag_values / flag_meanings); values other than 0 carry no estimate.
 WINDOW_FLAGS = {
@@ -385,18 +385,28 @@ def _longest_run(mask: np.ndarray) -> tuple[int, int]:
     return best
 
 
-def detect_ice_bottom(depth, temperature, freezing_temperature, tolerance: float = 0.1, fit_length: float = 0.1):
+def detect_ice_bottom(depth, temperature, freezing_temperature, tolerance: float = 0.1, fit_length: float = 0.1,
+                      water_sensors: int = 5, water_window: float = 0.3):
     """Ice bottom [m] of each profile from the freezing point of the water below.
 
     Method (this project's, after the freezing-point criterion of thermistor-string
     studies such as Perovich et al. 1997 and the comparison of Richter et al. 2023,
-    J. Glaciol. 69, 879-898): the ice is the longest run of consecutive valid sensors
-    colder than the freezing point minus ``tolerance`` [K]; its deepest sensor ``k`` is
-    in the ice.  A straight line through the run's sensors within ``fit_length`` [m]
-    above ``k`` is extrapolated to the freezing point; the result is kept between ``k``
-    and one spacing below the next valid sensor (else the mid-point between them).
-    NaN when no sensor is cold, or the run reaches the deepest valid sensor (the string
-    does not reach the water).
+    J. Glaciol. 69, 879-898):
+
+    * the water's freezing point: the water under growing ice is at its freezing point
+      (common practice, no source), so the median of the ``water_sensors`` deepest valid
+      sensors is taken for it when it lies within ``water_window`` [K] of
+      ``freezing_temperature`` (the liquidus at the ocean salinity; else that is used).
+      This follows a saltier or fresher water and cancels a common sensor offset;
+    * the ice is the longest run of consecutive valid sensors colder than that minus
+      ``tolerance`` [K]; its deepest sensor ``k`` is in the ice;
+    * a straight line through the run's sensors within ``fit_length`` [m] above ``k`` is
+      extrapolated to the freezing point (mid-point between ``k`` and the next sensor when
+      the line does not warm downward).  A result more than two spacings below the next
+      valid sensor is not trusted (NaN: the lower ice is too nearly isothermal).
+
+    NaN also when no sensor is cold, or the run reaches the deepest valid sensor (the
+    string does not reach the water).
 
     Parameters
     ----------
@@ -409,26 +419,31 @@ def detect_ice_bottom(depth, temperature, freezing_temperature, tolerance: float
     """
     z = np.asarray(depth, dtype=float)
     temp = np.atleast_2d(np.asarray(temperature, dtype=float))
-    tf = np.broadcast_to(np.asarray(freezing_temperature, dtype=float), (temp.shape[0],))
+    tf_all = np.broadcast_to(np.asarray(freezing_temperature, dtype=float), (temp.shape[0],))
     out = np.full(temp.shape[0], np.nan)
     for i in range(temp.shape[0]):
         ok = np.isfinite(temp[i])
-        if ok.sum() < 3:
+        if ok.sum() < max(3, water_sensors + 1):
             continue
         zs, ts = z[ok], temp[i, ok]
-        a, k = _longest_run(ts < tf[i] - tolerance)
+        tf = tf_all[i]
+        water = float(np.median(ts[-water_sensors:])) if water_sensors > 0 else np.nan
+        if np.isfinite(water) and abs(water - tf) <= water_window:
+            tf = water
+        a, k = _longest_run(ts < tf - tolerance)
         if k < 0 or k == zs.size - 1:
             continue
         sel = np.arange(a, k + 1)
         sel = sel[zs[sel] >= zs[k] - fit_length - 1e-9]
         lo, nxt = zs[k], zs[k + 1]
-        guess = 0.5 * (lo + nxt)
+        zb = 0.5 * (lo + nxt)
         if sel.size >= 2:
-            b = linear_gradient(zs[sel], ts[sel])
-            if np.isfinite(b) and b > 0:
-                zb = zs[sel].mean() + (tf[i] - ts[sel].mean()) / b
-                guess = min(max(zb, lo), nxt + (nxt - lo))
-        out[i] = guess
+            g = linear_gradient(zs[sel], ts[sel])
+            if np.isfinite(g) and g > 0:
+                zb = max(zs[sel].mean() + (tf - ts[sel].mean()) / g, lo)
+        if zb > nxt + 2.0 * (nxt - lo):
+            continue
+        out[i] = zb
     return out
 
 
@@ -601,7 +616,8 @@ def fill_ice_surface(ice_surface, snow_surface):
 
     Where the detected value is missing the last one is carried forward; where the snow
     surface is deeper than that, the snow has gone and the surface seen from above (the
-    upper sounder) is the ice: the ice surface is the snow surface.  Returns the filled
+    upper sounder) is the ice: the ice surface is the snow surface.  Before the first
+    detection nothing is filled.  Returns the filled
     series [m] and a flag per time (0 detected, 1 carried forward, 2 from the snow
     surface, 3 unknown).
     """
@@ -616,7 +632,7 @@ def fill_ice_surface(ice_surface, snow_surface):
             continue
         if np.isfinite(last):
             out[i], flag[i] = last, 1
-        if np.isfinite(zs[i]) and (not np.isfinite(out[i]) or zs[i] > out[i]):
+        if np.isfinite(out[i]) and np.isfinite(zs[i]) and zs[i] > out[i]:
             out[i], flag[i] = zs[i], 2
             last = zs[i]
     return out, flag

@@ -119,6 +119,8 @@ def _metadata(name: str, text: str) -> dict[str, tuple[float, int]]:
 
 def _finish(name: str, times, depth, temp, measured: dict[str, np.ndarray], title: str = "") -> xr.Dataset:
     """The record Dataset, with sensor flags and gaps (no values changed)."""
+    if times.size < 2:
+        raise InputError(f"{name}: {times.size} profile(s); a record needs at least two")
     steps = np.diff(times.astype("datetime64[ns]").astype(np.int64)) / 1e9
     median = float(np.median(steps)) if steps.size else float("nan")
     gaps = np.flatnonzero(steps > GAP_FACTOR * median) if steps.size else np.array([], int)
@@ -184,6 +186,9 @@ def read_buoy_csv(path: str | Path) -> xr.Dataset:
     missing = meta.get("missing_value", (None, 0))[0]
     if "time" not in header:
         raise InputError(f"{name}: line {header_no}: no 'time' column; columns found: {', '.join(header)}")
+    twice = sorted({c for c in header if header.count(c) > 1})
+    if twice:
+        raise InputError(f"{name}: line {header_no}: column {twice[0]!r} appears twice")
     sensors = []
     for i, col in enumerate(header):
         m = _SENSOR.match(col)
@@ -321,14 +326,39 @@ def read_buoy(path: str | Path) -> xr.Dataset:
     return read_buoy_csv(path)
 
 
-def salinity_from_core(path: str | Path) -> SalinityProfile:
+#: Sections of a core whose mid-depth lies within this distance of the core's bottom are not
+#: used [m]: the youngest ice is still draining (its salinity falls for days to weeks after it
+#: forms; Notz & Worster 2009, JGR 114, C05006, from memory), and the residual counts the
+#: latent heat of new ice at the salinity it keeps (steady-growth approximation, see
+#: icecolumn.buoy).  The lowest section above them is held down to the bottom instead.
+DRAINING_BOTTOM = 0.10
+
+
+def salinity_from_core(path: str | Path, draining_bottom: float = DRAINING_BOTTOM) -> SalinityProfile:
     """Bulk-salinity profile from an ice-core CSV (the layout of
-    :func:`icecolumn.profiles.read_core`: depth_top, depth_bottom, salinity)."""
+    :func:`icecolumn.profiles.read_core`: depth_top, depth_bottom, salinity).
+
+    Sections with their mid-depth within ``draining_bottom`` [m] of the core's bottom are
+    left out (:data:`DRAINING_BOTTOM`), unless no other section is left.
+    """
     from .profiles import read_core
 
-    core = read_core(path)
-    return SalinityProfile(depth=np.asarray(core.depth, float), salinity=np.asarray(core.salinity, float),
-                           source=str(path))
+    core = read_core(path)  # checks the file
+    d = np.asarray(core.depth, float)
+    sal = np.asarray(core.salinity, float)
+    header, _, rows = read_csv_rows(path, "ice-core file")
+    ib = header.index("depth_bottom")
+    if "time" in header and core.time is not None:
+        it = header.index("time")
+        times = parse_times([c[it] for _, c in rows], source=str(path))
+        rows = [r for r, t in zip(rows, times) if t == core.time]
+    bottom = max(float(c[ib]) for _, c in rows)
+    keep = d < bottom - draining_bottom
+    note = ""
+    if keep.any() and not keep.all():
+        note = f", {int((~keep).sum())} section(s) of the draining bottom left out"
+        d, sal = d[keep], sal[keep]
+    return SalinityProfile(depth=d, salinity=sal, source=f"{path}{note}")
 
 
 def record_summary(record: xr.Dataset, iface: xr.Dataset | None = None) -> list[str]:

@@ -19,10 +19,10 @@ from .buoy import CAUTION_FLUX, WINDOW_FLAGS
 __all__ = ["plot_buoy", "save_figure"]
 
 _TERMS = (
-    ("conductive_heat_flux", "F_c conductive (lower ice)", "tab:blue", -0.27),
-    ("growth_heat_flux", "G latent heat of basal growth", "tab:green", -0.09),
-    ("heat_storage_flux", "F_s heat released by cooling", "tab:purple", 0.09),
-    ("ocean_heat_flux", "F_w ocean heat flux (residual)", "black", 0.27),
+    ("conductive_heat_flux", "F_c conduction\n(lower ice)", "tab:blue", -0.27),
+    ("growth_heat_flux", "G latent heat\nof basal growth", "tab:green", -0.09),
+    ("heat_storage_flux", "F_s released by\ncooling (storage)", "tab:purple", 0.09),
+    ("ocean_heat_flux", "F_w ocean heat\nflux (residual)", "black", 0.27),
 )
 
 _LINES = (
@@ -76,13 +76,22 @@ def plot_buoy(ds: xr.Dataset, title: str | None = None) -> Figure:
     for name, label, color in _LINES:
         if name in ds:
             src = ds[name].attrs.get("source", "")
-            ax1.plot(t, ds[name].values, color=color, lw=1.4, label=f"{label} ({src})")
+            values = np.asarray(ds[name].values, float)
+            if name == "ice_surface" and "ice_surface_fill" in ds:
+                filled = np.asarray(ds["ice_surface_fill"].values) > 0
+                ax1.plot(t, np.where(filled, np.nan, values), color=color, lw=1.4, label=f"{label} ({src})")
+                if filled.any():
+                    ax1.plot(t, np.where(filled, values, np.nan), color=color, lw=1.2, ls="--",
+                             label=f"{label} (filled: carried forward or snow surface)")
+                continue
+            ax1.plot(t, values, color=color, lw=1.4, label=f"{label} ({src})")
         det = f"{name}_detected"
         if det in ds and ds[name].attrs.get("source") == "measured":
             ax1.plot(t, ds[det].values, color=color, lw=0.9, ls=":", label=f"{label} (detected)")
     if "window_bounds" in ds:
         for b in np.unique(ds["window_bounds"].values.ravel()):
-            ax1.axvline(b, color="0.3", lw=0.4, alpha=0.6)
+            if t[0] <= b <= t[-1]:
+                ax1.axvline(b, color="0.3", lw=0.4, alpha=0.6)
     ax1.set_ylim(ze[-1], ze[0])
     ax1.set_ylabel("depth below the ice surface at deployment [m]")
     ax1.legend(loc="lower left", fontsize=7, ncol=3, framealpha=0.7)
@@ -100,14 +109,18 @@ def plot_buoy(ds: xr.Dataset, title: str | None = None) -> Figure:
                          else "s", color=color, ms=4 if name != "ocean_heat_flux" else 5, capsize=2, lw=1,
                          label=label)
         for w in np.flatnonzero(flag != 0):
-            ax2.axvspan(wb[w, 0], wb[w, 1], color="0.85", zorder=0)
+            a, b = max(wb[w, 0], t[0]), min(wb[w, 1], t[-1])  # the part inside the record
+            if not b > a:
+                continue
+            ax2.axvspan(a, b, color="0.85", zorder=0)
             reason = WINDOW_FLAGS.get(int(flag[w]), "").replace("_", " ")
-            ax2.text(mid[w], 0.97, f"no estimate: {reason}", transform=ax2.get_xaxis_transform(), ha="center",
-                     va="top", fontsize=6, rotation=90, color="0.35")
+            ax2.text(a + (b - a) / 2, 0.97, f"no estimate: {reason}", transform=ax2.get_xaxis_transform(),
+                     ha="center", va="top", fontsize=6, rotation=90, color="0.35")
         ax2.axhline(0.0, color="0.4", lw=0.6)
         ax2.set_ylabel("heat flux [W m$^{-2}$]")
-        ax2.legend(loc="lower left", fontsize=7, ncol=2, framealpha=0.8)
+        ax2.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=7, frameon=False, borderaxespad=0.0)
         ax2.set_title("budget per window: F_w = F_c - G - F_s; error bars: expanded uncertainty (2 sd)", fontsize=9)
+    ax1.set_xlim(tedges[0], tedges[-1])
     ax2.xaxis.set_major_locator(mdates.AutoDateLocator())
     ax2.xaxis.set_major_formatter(mdates.ConciseDateFormatter(ax2.xaxis.get_major_locator()))
     fig.text(0.5, 0.012, CAUTION_FLUX, ha="center", va="bottom", fontsize=7, wrap=True, color="0.2")

@@ -1041,7 +1041,7 @@ def record_mean(budget: xr.Dataset) -> tuple[float, float, int]:
 # --------------------------------------------------------------------------- synthetic string
 
 
-def synthetic_string(run: xr.Dataset, sensor_depth, deployed=None, cfg=None) -> xr.Dataset:
+def synthetic_string(run: xr.Dataset, sensor_depth, cfg, deployed=None) -> xr.Dataset:
     """Temperatures a thermistor string would read in a model run (twin tests, demo data).
 
     The string is frozen into the ice at ``deployed`` (default: the run's first time with
@@ -1059,8 +1059,10 @@ def synthetic_string(run: xr.Dataset, sensor_depth, deployed=None, cfg=None) -> 
     run : xarray.Dataset
         Output of :func:`icecolumn.run` (one member).
     sensor_depth : (n,) [m]
-    cfg : icecolumn.Config, optional
-        The run's configuration (default: read from the ``icecolumn_config`` attribute).
+    cfg : icecolumn.Config
+        The run's configuration (ocean salinity, snow and ice conductivity).
+    deployed : datetime-like, optional
+        When the string is frozen in (default: the first output time with ice).
 
     Returns
     -------
@@ -1068,10 +1070,6 @@ def synthetic_string(run: xr.Dataset, sensor_depth, deployed=None, cfg=None) -> 
         ``temperature`` (time, sensor) [degC], coordinate ``depth``; the model's true
         interfaces ``snow_surface``, ``ice_surface``, ``ice_bottom`` [m] (time).
     """
-    from .config import config_from_toml_text
-
-    if cfg is None:
-        cfg = config_from_toml_text(str(run.attrs["icecolumn_config"]), "run attribute icecolumn_config")
     z = np.asarray(sensor_depth, dtype=float)
     t = run["time"].values
     h = np.asarray(run["ice_thickness"].values, float)

@@ -380,7 +380,8 @@ def record_summary(record: xr.Dataset, iface: xr.Dataset | None = None) -> list[
                      + (f", last reading {last[k]}" if flag[k] == 1 and last[k] else "")
                      + " (missing readings are left out, not filled)")
     if record.attrs.get("gaps"):
-        lines.append(f"gaps:       {record.attrs['gaps']} (no profiles; windows with too few are not estimated)")
+        spans = "; ".join(f"between {g.replace(' to ', ' and ')}" for g in record.attrs["gaps"].split("; "))
+        lines.append(f"gaps:       no profiles {spans} (windows with too few are not estimated)")
     if iface is not None:
         src = ", ".join(f"{n.replace('_', ' ')} {iface[n].attrs.get('source', '?')}" for n in INTERFACES)
         lines.append(f"interfaces: {src}")

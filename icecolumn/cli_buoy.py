@@ -39,7 +39,8 @@ def buoy_command(
     record: Annotated[Path, typer.Argument(metavar="RECORD", help="Thermistor-string record: CSV (time, T1..Tn; "
                                            "'# first_sensor_depth' and '# sensor_spacing' lines) or CF NetCDF.",
                                            show_default=False)],
-    outdir: Annotated[Path, typer.Option("-o", "--output-dir", help="Folder for the output files.")] = Path("."),
+    outdir: Annotated[Path, typer.Option("-o", "--output-dir", help="Folder for the output files (made if "
+                                         "missing).")] = Path("."),
     core: Annotated[Optional[Path], typer.Option("--core", help="Ice-core CSV (depth_top, depth_bottom, salinity) "
                                                  "[default: assumed first-year salinity].")] = None,
     window: Annotated[str, typer.Option("--window", metavar="DURATION", help="Window length.")] = "10D",
@@ -80,8 +81,6 @@ def buoy_command(
 
     if outdir.exists() and not outdir.is_dir():
         raise InputError(f"{outdir}: is not a folder")
-    if not outdir.is_dir():
-        raise InputError(f"{outdir}: folder does not exist")
     stem = record.stem
     out = {k: outdir / f"{stem}_{k}" for k in ("budget.nc", "budget.png", "budget.txt", "thickness.csv")}
     if forcing is not None:
@@ -123,6 +122,7 @@ def buoy_command(
     if station is not None:
         fill = cfg.ocean.heat_flux if fill_flux is None else float(fill_flux)
         files[out["forcing.csv"]] = buoy_io.forcing_csv_text(station, budget, fill, str(record))
+    outdir.mkdir(parents=True, exist_ok=True)  # everything is computed: only writing is left
     written = buoy_io.write_outputs(files, overwrite=overwrite)
     mean, unc, n = buoy.record_mean(budget)
     lines = [*buoy_io.record_summary(rec, iface), "", table]

@@ -81,7 +81,7 @@ def model_window_flux(run, bounds):
 def main() -> int:
     run, cfg = demo_run()
     depth = np.round(FIRST + SPACING * np.arange(COUNT), 6)
-    string = synthetic_string(run, depth, deployed=DEPLOYED, cfg=cfg)
+    string = synthetic_string(run, depth, cfg, deployed=DEPLOYED)
     string = string.sel(time=slice(DEPLOYED, END))
     t = string["time"].values
     rng = np.random.default_rng(SEED)

@@ -165,7 +165,8 @@ def test_bottom_detection_of_a_linear_profile():
 
 
 def test_snow_ice_interface_from_the_conductivity_ratio():
-    # snow (k 0.31) over ice (k about 2.1): at equal flux the gradient is about 7 times steeper
+    # snow (k 0.31 W m-1 K-1, Maykut & Untersteiner 1971, from memory) over ice (k about 2.1,
+    # Yen et al. 1991 near -10 degC): at equal flux the gradient is about 7 times steeper
     z = np.round(np.arange(-0.40, 1.0001, 0.02), 6)
     tf = float(buoy.ocean_freezing_temperature(34.0))
     zi, zs, zb, g_ice = 0.013, -0.211, 0.80, 20.0
@@ -208,7 +209,7 @@ TWIN_DEPLOYED = np.datetime64("2027-01-11T00:00", "ns")
 @pytest.fixture(scope="module")
 def twin(tmp_path_factory):
     run, cfg = _twin_run(tmp_path_factory.mktemp("twin"))
-    string = buoy.synthetic_string(run, TWIN_DEPTH, deployed=TWIN_DEPLOYED)
+    string = buoy.synthetic_string(run, TWIN_DEPTH, cfg, deployed=TWIN_DEPLOYED)
     return run, cfg, string
 
 
@@ -346,11 +347,7 @@ def test_twin_demo_record_against_the_model_it_came_from(demo_budget):
     # the windows of flushing (salinity falling in time, which a fixed salinity cannot follow)
     # say so by their salinity sensitivity
     assert np.all(sens[ok & ~growth & ~melt] > 1.0)
-    assert np.all(start_after(wb[ok & ~growth & ~melt], "2027-07-01"))
-
-
-def start_after(bounds, date):
-    return bounds[:, 0] >= np.datetime64(date)
+    assert np.all(wb[ok & ~growth & ~melt][:, 0] >= np.datetime64("2027-07-01"))
 
 
 # --------------------------------------------------------------------------- readers
@@ -505,6 +502,16 @@ def test_command_refuses_to_overwrite_and_leaves_everything_as_it_was(small_reco
     ok = invoke("buoy", rec, "-o", tmp_path, "--members", 10, "--overwrite")
     assert ok.exit_code == 0, ok.output
     assert existing.read_text() != "my notes"
+
+
+def test_command_makes_a_missing_output_folder_only_when_it_succeeds(small_record, tmp_path):
+    rec, _ = small_record
+    bad = invoke("buoy", rec, "-o", tmp_path / "a" / "b", "--band", "x")
+    one_line_error(bad, "--band")
+    assert not (tmp_path / "a").exists()
+    ok = invoke("buoy", rec, "-o", tmp_path / "a" / "b", "--members", 10)
+    assert ok.exit_code == 0, ok.output
+    assert (tmp_path / "a" / "b" / "small_budget.nc").is_file()
 
 
 @pytest.mark.parametrize("args,fragment", [

@@ -16,7 +16,7 @@ from typing import Annotated
 import typer
 from typer.core import TyperGroup
 
-from . import cli_calibrate, cli_check, cli_demo, cli_ensemble, cli_forecast, cli_laws, cli_plot, cli_run
+from . import cli_buoy, cli_calibrate, cli_check, cli_demo, cli_ensemble, cli_forecast, cli_laws, cli_plot, cli_run
 from ._version import __version__
 from .errors import IceColumnError
 
@@ -105,7 +105,8 @@ def _root(
 # Every command lives in a module ``icecolumn/cli_<name>.py`` whose ``COMMANDS`` maps the
 # command name to its function; they are registered here, in this order (the order of the
 # help).  The command modules import only :mod:`icecolumn.cli_common`, never this module.
-for _module in (cli_run, cli_demo, cli_check, cli_laws, cli_plot, cli_forecast, cli_calibrate, cli_ensemble):
+for _module in (cli_run, cli_demo, cli_check, cli_laws, cli_plot, cli_forecast, cli_calibrate, cli_ensemble,
+                cli_buoy):
     for _name, _command in _module.COMMANDS.items():
         app.command(_name)(_command)
 

@@ -216,6 +216,9 @@ def write_atomically(path, write, suffix: str = ".tmp") -> Path:
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix, dir=folder)
     os.close(fd)
     try:
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # the user's usual permissions (mkstemp makes the file private)
         write(tmp)
         with open(tmp, "rb") as fh:
             os.fsync(fh.fileno())

@@ -159,7 +159,7 @@ def test_command_modules_do_not_import_the_cli_module():
             if isinstance(node, ast.Import):
                 assert all(a.name != "icecolumn.cli" for a in node.names), path.name
     names = {c.name for c in cli.app.registered_commands}
-    assert names == {"run", "config", "demo", "check", "laws", "plot", "forecast", "calibrate", "ensemble"}
+    assert names == {"run", "config", "demo", "check", "laws", "plot", "forecast", "calibrate", "ensemble", "buoy"}
 
 
 def test_same_option_names_for_the_same_things():

@@ -127,3 +127,14 @@ def jit(func=None, **options):
         return dispatcher
 
     return wrap if func is None else wrap(func)
+
+
+def is_ready(dispatcher) -> bool:
+    """True if ``dispatcher`` has machine code in this process or a fresh entry in the on-disk
+    cache (so that calling it will not compile); used to tell the user before a long first compile."""
+    if dispatcher.signatures:
+        return True
+    try:
+        return bool(dispatcher._cache._cache_file._load_index())
+    except Exception:  # noqa: BLE001 - a cache we cannot read means a compile
+        return False

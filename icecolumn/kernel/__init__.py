@@ -23,6 +23,7 @@ module                 job
 ``driver``             ``advance``, ``advance_parallel``, ``diagnose``
 =====================  ======================================================================
 """
+from .._jit import is_ready
 from .driver import advance, advance_parallel, diagnose
 from .layout import (B, F, FORCING_NAMES, NFORCING, NPAR, NSLOT, P, SLOT_INDEX, SLOTS, STATUS_MESSAGES,
                      SURFACE_CODES, StateView, state_size, view)
@@ -30,4 +31,10 @@ from .params import parameter_row
 
 __all__ = ["advance", "advance_parallel", "diagnose", "B", "F", "P", "FORCING_NAMES", "NFORCING", "NPAR",
            "NSLOT", "SLOTS", "SLOT_INDEX", "STATUS_MESSAGES", "SURFACE_CODES", "StateView", "state_size",
-           "view", "parameter_row"]
+           "view", "parameter_row", "needs_compile"]
+
+
+def needs_compile(batch: bool = False) -> bool:
+    """True if the next run will compile the kernel first (no cached machine code yet): the
+    serial kernel for one column, the threaded one for a batch."""
+    return not is_ready(advance_parallel if batch else advance)

@@ -40,6 +40,63 @@ def interp(ft, fv, t, i0):
     return fv[i] + a * (fv[i + 1] - fv[i]), i
 
 
+#: Forcing rows that are rates (fluxes): they enter a step as their mean over the step, the exact
+#: integral of their piecewise-linear interpolant divided by the step, so that a run delivers the
+#: forcing's energy and snow whatever its step and output interval.
+RATE_ROWS = (F.SW, F.LW, F.QOCEAN, F.SNOWFALL)
+
+
+@jit
+def _value_at(ft, fv, t, i):
+    """Interpolant on segment i at t (clamped to the segment, so to the data's span at its ends)."""
+    t0 = ft[i]
+    t1 = ft[i + 1]
+    a = (t - t0) / (t1 - t0)
+    if a < 0.0:
+        a = 0.0
+    if a > 1.0:
+        a = 1.0
+    return fv[i] + a * (fv[i + 1] - fv[i])
+
+
+@jit
+def interval_mean(ft, fv, t1, t2, i0):
+    """Mean of the piecewise-linear interpolant of (ft, fv) over [t1, t2] (constant beyond the
+    data's ends, as :func:`interp`); ``i0`` is a search hint."""
+    _v, i = interp(ft, fv, t1, i0)
+    n = ft.size
+    acc = 0.0
+    a = t1
+    # the part before the first knot (constant extrapolation)
+    if a < ft[0]:
+        b = t2 if t2 < ft[0] else ft[0]
+        acc += fv[0] * (b - a)
+        a = b
+    while a < t2:
+        if a >= ft[n - 1]:
+            acc += fv[n - 1] * (t2 - a)
+            break
+        while i < n - 2 and ft[i + 1] <= a:
+            i += 1
+        b = ft[i + 1] if ft[i + 1] < t2 else t2
+        acc += 0.5 * (_value_at(ft, fv, a, i) + _value_at(ft, fv, b, i)) * (b - a)
+        a = b
+    return acc / (t2 - t1)
+
+
+@jit
+def hold_rates_over_step(ft, forc, t1, t2, i0, fv1, fv2, fv3):
+    """Replace the rate rows a member has (:data:`RATE_ROWS`) by their mean over the step [t1, t2]
+    in the forcing of its stages ``fv1``, ``fv2``, ``fv3`` (the same array may be given twice)."""
+    for v in RATE_ROWS:
+        if forc[v, 0] != forc[v, 0]:
+            continue  # absent: the stage values (defaults) stay
+        m = interval_mean(ft, forc[v], t1, t2, i0)
+        fv1[v] = m
+        fv2[v] = m
+        fv3[v] = m
+
+
 @jit
 def forcing_at(ft, forc, t, i0, par, out):
     """All forcing rows at time t into ``out``; returns the search hint for the next call.

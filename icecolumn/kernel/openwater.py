@@ -12,7 +12,7 @@ from __future__ import annotations
 from .._jit import jit
 from ..phase import liquidus_temperature_scalar
 from ..surface import net_water_flux_scalar
-from .inputs import atmosphere, forcing_at
+from .inputs import atmosphere, forcing_at, hold_rates_over_step
 from .layout import B, F, P
 from .mixedlayer import mixed_layer_state, restoring
 
@@ -146,10 +146,12 @@ def open_water_rates(y, n, par, fv, g):
 def open_water_step(y, t, dt, n, par, ft, forc, idx, fv, g1, g2, ytmp):
     """One explicit Heun step of the open-water budgets; returns the forcing index hint."""
     idx = forcing_at(ft, forc, t, idx, par, fv)
+    hold_rates_over_step(ft, forc, t, t + dt, idx, fv, fv, fv)
     open_water_rates(y, n, par, fv, g1)
     for i in range(y.size):
         ytmp[i] = y[i] + dt * g1[i]
     forcing_at(ft, forc, t + dt, idx, par, fv)
+    hold_rates_over_step(ft, forc, t, t + dt, idx, fv, fv, fv)
     open_water_rates(ytmp, n, par, fv, g2)
     for i in range(y.size):
         y[i] = y[i] + 0.5 * dt * (g1[i] + g2[i])

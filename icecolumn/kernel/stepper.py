@@ -21,7 +21,7 @@ from __future__ import annotations
 import numpy as np
 
 from .._jit import jit
-from .inputs import forcing_at
+from .inputs import forcing_at, hold_rates_over_step
 from .layout import B, F, P, STATUS_OK, STATUS_UNDERFLOW
 from .mixedlayer import heat_to_ice, mixed_layer_state
 from .newton import stage_solve
@@ -107,6 +107,7 @@ def step_member(y, t0, t1, n, par_in, ft, forc, counters):
         idx = forcing_at(ft, forc, t, idx, par, fv1)
         i2 = forcing_at(ft, forc, t + _GAMMA * dt, idx, par, fv2)
         forcing_at(ft, forc, t + dt, i2, par, fv3)
+        hold_rates_over_step(ft, forc, t, t + dt, idx, fv1, fv2, fv3)
         if mixed:
             # heat from the mixed layer to the ice base, held over the step
             fw1 = heat_to_ice(y, n, par)

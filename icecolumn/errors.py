@@ -13,3 +13,7 @@ class IceColumnError(Exception):
 
 class InputError(IceColumnError, ValueError):
     """Bad user input. ``str(err)`` is a single line fit for the terminal."""
+
+
+class IceColumnWarning(UserWarning):
+    """Something a user should know about a run that still goes ahead (one line of text)."""

@@ -7,6 +7,7 @@ A single run is a batch of one through the same code.
 """
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
@@ -16,8 +17,9 @@ import xarray as xr
 from . import kernel as K
 from .config import Config, default_config
 from .constants import SEAWATER_DENSITY
-from .errors import IceColumnError, InputError
-from .phase import liquidus_temperature_scalar, state_enthalpy
+from .errors import IceColumnError, IceColumnWarning, InputError
+from .kernel.params import SURFACE_MELTING_POINT
+from .phase import liquidus_temperature, liquidus_temperature_scalar, state_enthalpy
 from .properties import snow_conductivity_of
 
 
@@ -102,7 +104,6 @@ def initial_state(cfg: Config, surface_temperature: float, profile: InitialProfi
     if profile is not None:
         if profile.temperature is not None:
             temp = np.interp(z, profile.depth, profile.temperature)
-            temp = np.minimum(temp, tf)
         if profile.salinity is not None:
             sal = np.interp(z, profile.salinity_depth, profile.salinity)
     return state_from_profile(cfg, h, temp, sal)
@@ -110,6 +111,10 @@ def initial_state(cfg: Config, surface_temperature: float, profile: InitialProfi
 
 def state_from_profile(cfg: Config, thickness: float, temperature, bulk_salinity) -> np.ndarray:
     """State vector (layer contents, thickness, zero budgets) of ice in phase equilibrium.
+
+    Ice at its melting point is ice: a fresh layer (bulk salinity 0) at 0 degC is solid ice at
+    0 degC (its enthalpy -rho L), not water.  A layer warmer than the melting point of ice of its
+    bulk salinity (the liquidus temperature) cannot be ice and is an :class:`InputError`.
 
     Parameters
     ----------
@@ -124,8 +129,17 @@ def state_from_profile(cfg: Config, thickness: float, temperature, bulk_salinity
     bulk_salinity = np.asarray(bulk_salinity, dtype=float)
     n = temperature.size
     pr = cfg.properties
+    melting = liquidus_temperature(np.maximum(bulk_salinity, 0.0))
+    warm = temperature > melting + 1e-9
+    if warm.any():
+        k = int(np.flatnonzero(warm)[0])
+        raise InputError(
+            f"initial state: layer {k + 1} at {temperature[k]:.3f} degC is warmer than the melting point "
+            f"{melting[k]:.3f} degC of ice with bulk salinity {bulk_salinity[k]:g} g/kg: it cannot be ice")
     hv, _ = state_enthalpy(temperature, bulk_salinity, pr.ice_density, pr.ice_specific_heat,
                            pr.brine_specific_heat, pr.latent_heat)
+    fresh = (bulk_salinity <= 0.0) & (temperature >= 0.0)
+    hv = np.where(fresh, -pr.ice_density * pr.latent_heat, hv)  # fresh ice at its melting point
     dz = thickness / n
     y = np.zeros(K.state_size(n))
     v = K.view(y, n)
@@ -286,6 +300,15 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
             if not np.isfinite(fts[i]).all():
                 raise InputError(f"{source}: [surface] scheme = 'prescribed' needs a 'surface_temperature' column")
             ts0 = float(np.interp(tsec[0], ft, fts[i]))
+            period = (ft >= tsec[0]) & (ft <= tsec[-1])
+            warm = np.flatnonzero(period & (fts[i] > SURFACE_MELTING_POINT))
+            if warm.size:
+                j = int(warm[0])
+                first = str(TIME_EPOCH + np.timedelta64(int(round(ft[j] * 1e9)), "ns"))[:16]
+                warnings.warn(f"{source}: the prescribed surface_temperature is above the ice's melting point "
+                              f"({float(fts[i][j]):g} degC at {first}, max {float(fts[i][period].max()):g} degC); "
+                              f"the surface is held at {SURFACE_MELTING_POINT:g} degC and the excess energy "
+                              f"melts it", IceColumnWarning, stacklevel=2)
         else:
             ts0 = _steady_surface_temperature(m.config, air0)
         ys[i] = initial_state(m.config, ts0, prof)

@@ -157,21 +157,35 @@ def test_steady_linear_profile_holds_thickness():
 
 
 def test_isothermal_ice_melts_at_ocean_heat_flux_rate():
-    # isothermal fresh ice at 0 degC under a 0 degC surface: no conduction, so the base melts
-    # at F_w / (rho L).  The default initial profile cannot express solid ice at 0 degC
-    # (state_enthalpy(0, 0) gives liquid water, phi = 1), so the state vector is built
-    # here: enthalpy content -rho L dz per layer (solid at 0 degC), no salt, thickness h0.
-    fw, h0, days = 20.0, 0.5, 10
+    # isothermal fresh ice at 0 degC under a 0 degC surface: no conduction, so the base melts at
+    # F_w / (rho L) (the Stefan condition with no conductive flux; common practice, no source).
+    # Ice at its melting point built from the configuration is solid ice at 0 degC (it used to
+    # start as water); 30 W m-2 for 30 days melts F t / (rho L) = 0.2539 m within 0.5 %.
+    fw, h0, days = 30.0, 1.2, 30
     cfg = fresh_config(h0, heat_flux=fw)
-    n = cfg.grid.layers
-    y = np.zeros(K.state_size(n))
-    v = K.view(y, n)
-    v.enthalpy_content[:] = -RHO * LAT * h0 / n
-    v.thickness[...] = h0
-    ds = ic.run(constant_forcing(days, 0.0), cfg, initial_state_vector=y)
+    ds = ic.run(constant_forcing(days, 0.0), cfg)
     assert float(ds["liquid_fraction"].isel(time=0).max()) == 0.0
-    dh = h0 - float(ds["ice_thickness"].values[-1])
-    expected = fw * days * DAY / (RHO * LAT)  # 0.056419 m
+    dh = h0 - float(ds["interface_depth"].values[-1])
+    expected = fw * days * DAY / (RHO * LAT)
     rel = dh / expected - 1.0
     print(f"\nisothermal melt: dh = {dh:.6f} m, expected {expected:.6f} m, rel. error {rel:+.2e}")
-    assert abs(rel) <= 1e-3
+    assert expected == pytest.approx(0.2539, abs=1e-4)
+    assert abs(rel) <= 5e-3
+
+
+def test_initial_ice_warmer_than_its_melting_point_is_an_error():
+    from icecolumn.errors import InputError
+    from icecolumn.model import InitialProfile
+
+    cfg = fresh_config(0.5).replace("ocean", salinity=34.0).replace("initial", bulk_salinity=5.0)
+    z = np.array([0.0, 0.5])
+    warm = InitialProfile(depth=z, temperature=np.array([-5.0, -0.1]))  # -0.1 > T_L(5 g/kg) = -0.27
+    with pytest.raises(InputError, match="warmer than the melting point"):
+        ic.run(constant_forcing(1, -5.0), cfg, profile=warm)
+
+
+def test_prescribed_surface_above_melting_point_is_a_warning():
+    from icecolumn.errors import IceColumnWarning
+
+    with pytest.warns(IceColumnWarning, match="above the ice's melting point"):
+        ic.run(constant_forcing(1, 2.0), fresh_config(0.5))

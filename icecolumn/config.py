@@ -44,6 +44,8 @@ except ModuleNotFoundError:  # Python < 3.11
 
 from . import constants as C
 from .errors import InputError
+from .surface import AIR_HEIGHT, ALBEDO_DRY_SNOW, ALBEDO_ICE, ALBEDO_MELTING_ICE, ALBEDO_MELTING_SNOW, ALBEDO_POND, \
+    POND_FRACTION, ROUGHNESS_LENGTH, WIND_HEIGHT
 from .textfile import read_user_text
 from .timeutil import format_duration, parse_duration, parse_time
 
@@ -80,6 +82,8 @@ __all__ = [
 
 #: Names accepted by ``[surface] scheme``.
 SURFACE_SCHEMES: tuple[str, ...] = ("auto", "linear", "prescribed", "energy_balance")
+#: Names accepted by ``[surface] stability``.
+STABILITY_CHOICES: tuple[str, ...] = ("grachev2007", "neutral")
 #: Names accepted by ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
 #: Names accepted by ``[snow] conductivity_model``.
@@ -409,6 +413,32 @@ class SurfaceSection(_Section):
     heat_transfer_coefficient: float = setting(
         10.0, "W m-2 K-1", "linearized air-to-surface heat transfer coefficient (10-30 typical, Ashton in "
         "Britannica)", "float", 0.0, None, True)
+    albedo_dry_snow: float = setting(
+        ALBEDO_DRY_SNOW, "1", "albedo of dry snow (energy balance; Perovich et al. 2002: 0.8-0.9); a measured albedo "
+        "forcing column replaces the four albedos", "float", 0.0, 1.0)
+    albedo_melting_snow: float = setting(
+        ALBEDO_MELTING_SNOW, "1", "albedo of melting snow (Hanesiak et al. 2001: 0.75 on landfast first-year ice)", "float", 0.0, 1.0)
+    albedo_ice: float = setting(
+        ALBEDO_ICE, "1", "albedo of cold bare ice (Perovich et al. 2002: bare white ice 0.65)", "float", 0.0, 1.0)
+    albedo_melting_ice: float = setting(
+        ALBEDO_MELTING_ICE, "1", "albedo of melting bare ice between its ponds (Xia et al. 2015: 0.56-0.68)",
+        "float", 0.0, 1.0)
+    pond_fraction: float = setting(
+        POND_FRACTION, "1", "fraction of melting bare ice covered by melt ponds (a fixed fraction, not a pond model; "
+        "Divine et al. 2015: 0.29 on thin first-year ice in late summer)", "float", 0.0, 1.0)
+    albedo_pond: float = setting(
+        ALBEDO_POND, "1", "albedo of melt ponds (Hanesiak et al. 2001: 0.21 for dark ponds on first-year ice)",
+        "float", 0.0, 1.0)
+    stability: str = setting(
+        "grachev2007", "", "stability correction of the turbulent fluxes (energy balance): grachev2007 "
+        "(Monin-Obukhov, SHEBA stable functions of Grachev et al. 2007, Paulson 1970 unstable) or neutral",
+        "choice", choices=STABILITY_CHOICES)
+    roughness_length: float = setting(
+        ROUGHNESS_LENGTH, "m", "aerodynamic roughness length of the snow or ice surface, also used for heat and moisture "
+        "(Andreas et al. 2010, winter SHEBA)", "float", 1e-6, 0.1)
+    wind_height: float = setting(WIND_HEIGHT, "m", "height of the wind measurement", "float", 0.5, 100.0)
+    air_temperature_height: float = setting(AIR_HEIGHT, "m", "height of the air temperature and humidity measurement",
+                                            "float", 0.5, 100.0)
 
 
 @dataclass(frozen=True)

@@ -25,6 +25,12 @@ column                      units        meaning
 ``ocean_temperature``       degC         ocean temperature below the ice or open water
                                          (decides refreeze; gives the ocean heat flux
                                          when there is no ``ocean_heat_flux`` column)
+``albedo``                  1            measured broadband surface albedo (replaces the
+                                         model's albedos; a radiometer pair)
+``sensible_heat_flux``      W m-2        measured sensible heat flux toward the surface
+                                         (replaces the bulk formula)
+``latent_heat_flux``        W m-2        measured latent heat flux toward the surface
+                                         (replaces the bulk formula)
 ==========================  ===========  ==========================================
 
 All columns but ``time`` and ``air_temperature`` are optional.  Other columns
@@ -165,6 +171,23 @@ VARIABLES: dict[str, dict[str, Any]] = {
         "range": (-3.0, 35.0),
         "required": False,
     },
+    "albedo": {
+        "attrs": {"units": "1", "long_name": "surface albedo (measured)", "standard_name": "surface_albedo"},
+        "range": (0.0, 1.0),
+        "required": False,
+    },
+    "sensible_heat_flux": {
+        "attrs": {"units": "W m-2", "long_name": "sensible heat flux toward the surface (measured)",
+                  "standard_name": "surface_downward_sensible_heat_flux"},
+        "range": (-500.0, 500.0),
+        "required": False,
+    },
+    "latent_heat_flux": {
+        "attrs": {"units": "W m-2", "long_name": "latent heat flux toward the surface (measured)",
+                  "standard_name": "surface_downward_latent_heat_flux"},
+        "range": (-500.0, 500.0),
+        "required": False,
+    },
 }
 
 #: Relative humidity above 100 % up to this value is clipped to 100 % with a warning
@@ -186,6 +209,9 @@ CF_STANDARD_NAMES: dict[str, tuple[str, ...]] = {
     "snow_thickness": ("surface_snow_thickness",),
     "snowfall": ("snowfall_flux",),
     "ocean_temperature": ("sea_water_temperature", "sea_surface_temperature"),
+    "albedo": ("surface_albedo",),
+    "sensible_heat_flux": ("surface_downward_sensible_heat_flux",),
+    "latent_heat_flux": ("surface_downward_latent_heat_flux",),
 }
 
 _TEMPERATURE_UNITS = {
@@ -209,6 +235,9 @@ NETCDF_UNITS: dict[str, dict[str, tuple[float, float]]] = {
     "relative_humidity": {"%": (1.0, 0.0), "percent": (1.0, 0.0), "1": (100.0, 0.0)},
     "cloud_fraction": {"1": (1.0, 0.0), "%": (0.01, 0.0), "percent": (0.01, 0.0)},
     "snow_thickness": {"m": (1.0, 0.0), "cm": (0.01, 0.0), "mm": (0.001, 0.0)},
+    "albedo": {"1": (1.0, 0.0), "%": (0.01, 0.0), "percent": (0.01, 0.0)},
+    "sensible_heat_flux": _HEAT_FLUX_UNITS,
+    "latent_heat_flux": _HEAT_FLUX_UNITS,
     "snowfall": {
         **{u: (1.0, 0.0) for u in ("kg m-2 s-1", "kg m^-2 s^-1", "kg m**-2 s**-1", "kg/m2/s", "kg/m^2/s",
                                    "mm s-1", "mm/s")},

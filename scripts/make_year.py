@@ -6,7 +6,7 @@ one hourly year from 2026-09-15T00:00Z (open water before freeze-up) through the
 winter, the melt season and the open-water summer to 2027-09-14T23:00Z.  Columns:
 
 * ``air_temperature`` [degC]: smooth seasonal cycle through invented monthly anchors
-  (about -29 degC in February and March, +2.5 degC in late July), AR(1) synoptic noise with a
+  (about -29 degC in February and March, +5.5 degC in mid-July), AR(1) synoptic noise with a
   3-day correlation time, a diurnal cycle following the sun;
 * ``shortwave_down`` [W m-2]: top-of-atmosphere insolation at the invented latitude
   (solar constant 1361 W m-2, declination after Cooper 1969, from memory) times an
@@ -44,9 +44,9 @@ OUT = Path(__file__).resolve().parent.parent / "forcing_samples" / "station_year
 
 # (days after START, seasonal air temperature [degC]) -- invented anchor values, periodic
 SEASON_ANCHORS = [
-    (0, -1.0), (15, -4.0), (46, -12.0), (76, -19.0), (107, -24.0), (138, -28.0), (166, -29.0),
-    (197, -26.0), (227, -17.0), (258, -8.0), (273, -3.0), (288, 0.0), (303, 1.5), (319, 2.5),
-    (334, 2.0), (350, 0.0), (365, -1.0),
+    (0, -3.0), (15, -6.0), (46, -12.0), (76, -19.0), (107, -24.0), (138, -28.0), (166, -29.0),
+    (197, -26.0), (227, -17.0), (258, -4.0), (273, 1.5), (288, 4.5), (303, 5.5), (319, 3.5),
+    (334, -1.0), (350, -5.0), (365, -3.0),
 ]
 SNOW_WE_TOTAL = 0.20  # m water equivalent over the year (invented)
 

@@ -125,7 +125,7 @@ def test_compliance_checker_with_open_water_and_mixed_layer(tmp_path):
     forcing = ic.read_forcing(root / "forcing_samples" / "station_year.csv")
     cfg = (ic.load_config(root / "forcing_samples" / "station_year.toml")
            .replace("run", start="2027-07-20T00:00Z", end="2027-09-01T00:00Z")
-           .replace("initial", ice_thickness=0.8, bulk_salinity=4.0))
+           .replace("initial", ice_thickness=0.5, bulk_salinity=4.0))
     ds = ic.run(forcing, cfg)
     assert (ds.sea_ice_area_fraction.values == 0).any() and "mixed_layer_salinity" in ds
     path = tmp_path / "melt.nc"

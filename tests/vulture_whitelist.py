@@ -28,6 +28,7 @@ _.pure_ice_conductivity  # properties.py, tests/test_properties.py
 _.brine_conductivity  # properties.py, tests/test_properties.py
 _.longwave_down  # surface.py, tests/test_surface.py
 _.saturation_vapour_pressure  # surface.py, tests/test_surface.py
+_.transfer_coefficient  # surface.py, tests/test_surface.py
 _.covariance  # calibrate.CalibrationResult, tests/test_calibrate.py
 
 # numba's cache machinery calls the locator's stamp and reads the dispatcher's cache object.

@@ -6,15 +6,12 @@ import numpy as np
 from .._jit import jit
 from ..ocean import exchange_heat_flux_scalar
 from ..phase import liquidus_temperature_scalar
-from ..surface import longwave_down_scalar
+from ..surface import air_specific_humidity_scalar, longwave_down_scalar
 from .layout import NFORCING, F, P
 
 #: Cloud fraction used for the incoming longwave when the forcing has neither longwave_down nor
 #: cloud_fraction (a mid value; common practice, no source). [1]
 DEFAULT_CLOUD_FRACTION = 0.5
-#: Relative humidity with respect to water when the forcing has none (common practice, no
-#: source). [%]
-DEFAULT_RELATIVE_HUMIDITY = 90.0
 
 
 @jit
@@ -43,7 +40,7 @@ def interp(ft, fv, t, i0):
 #: Forcing rows that are rates (fluxes): they enter a step as their mean over the step, the exact
 #: integral of their piecewise-linear interpolant divided by the step, so that a run delivers the
 #: forcing's energy and snow whatever its step and output interval.
-RATE_ROWS = (F.SW, F.LW, F.QOCEAN, F.SNOWFALL)
+RATE_ROWS = (F.SW, F.LW, F.QOCEAN, F.SNOWFALL, F.SENS, F.LAT)
 
 
 @jit
@@ -124,10 +121,11 @@ def forcing_at(ft, forc, t, i0, par, out):
 
 @jit
 def atmosphere(fv, par):
-    """Shortwave and longwave down [W m-2], wind [m s-1] and relative humidity [%] of the forcing,
-    with the defaults of the energy balance where the forcing has none: no shortwave, longwave
-    from air temperature and cloud fraction (DEFAULT_CLOUD_FRACTION if absent), wind P.WIND,
-    DEFAULT_RELATIVE_HUMIDITY."""
+    """Shortwave and longwave down [W m-2], wind [m s-1] and specific humidity of the air
+    [kg kg-1] of the forcing, with the defaults of the energy balance where the forcing has none:
+    no shortwave, longwave from air temperature and cloud fraction (DEFAULT_CLOUD_FRACTION if
+    absent), wind P.WIND, air saturated over ice below 0 degC
+    (:func:`icecolumn.surface.air_specific_humidity_scalar`)."""
     sw = fv[F.SW]
     if sw != sw:
         sw = 0.0
@@ -138,7 +136,4 @@ def atmosphere(fv, par):
     wind = fv[F.WIND]
     if wind != wind:
         wind = par[P.WIND]
-    rh = fv[F.RH]
-    if rh != rh:
-        rh = DEFAULT_RELATIVE_HUMIDITY
-    return sw, lw, wind, rh
+    return sw, lw, wind, air_specific_humidity_scalar(fv[F.AIR], fv[F.RH])

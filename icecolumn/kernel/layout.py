@@ -109,6 +109,16 @@ PARAMETERS = (
     ("FLOODTAU", "s", "relaxation time of flooding to zero freeboard (0: no flooding)"),
     ("MLTAU", "s", "restoring time of the mixed-layer salinity (0: none)"),
     ("SREF", "g kg-1", "ocean salinity the mixed layer is restored to"),
+    ("ALB_SNOW", "1", "albedo of dry snow"),
+    ("ALB_SNOW_MELT", "1", "albedo of melting snow"),
+    ("ALB_ICE", "1", "albedo of cold bare ice"),
+    ("ALB_ICE_MELT", "1", "albedo of melting bare ice"),
+    ("POND", "1", "melt-pond fraction of melting bare ice"),
+    ("ALB_POND", "1", "albedo of melt ponds"),
+    ("Z0", "m", "roughness length"),
+    ("ZWIND", "m", "height of the wind"),
+    ("ZAIR", "m", "height of the air temperature and humidity"),
+    ("STAB", "code", "stability correction (icecolumn.surface.STABILITY_CODES)"),
 )
 #: Parameter indices (``P.RHO`` ...).
 P = namedtuple("ParameterIndex", [p[0] for p in PARAMETERS])(*range(len(PARAMETERS)))
@@ -129,6 +139,9 @@ FORCING = (
     ("SNOWDEPTH", "snow_thickness", "m"),
     ("SNOWFALL", "snowfall", "kg m-2 s-1"),
     ("TOCEAN", "ocean_temperature", "degC"),
+    ("ALBEDO", "albedo", "1"),
+    ("SENS", "sensible_heat_flux", "W m-2"),
+    ("LAT", "latent_heat_flux", "W m-2"),
 )
 #: Forcing row indices (``F.AIR`` ...).
 F = namedtuple("ForcingIndex", [f[0] for f in FORCING])(*range(len(FORCING)))

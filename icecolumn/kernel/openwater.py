@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from .._jit import jit
 from ..phase import liquidus_temperature_scalar
-from ..surface import net_water_flux_scalar
+from ..surface import net_water_flux_scalar, transfer_coefficient_scalar
 from .inputs import atmosphere, forcing_at, hold_rates_over_step
 from .layout import B, F, P
 from .mixedlayer import mixed_layer_state, restoring
@@ -114,8 +114,9 @@ def open_water_rates(y, n, par, fv, g):
         tf = liquidus_temperature_scalar(par[P.SW])
         tw = tf
     if int(par[P.SURF]) == 2:
-        sw, lw, wind, rh = atmosphere(fv, par)
-        fs = net_water_flux_scalar(tw, ta, sw, lw, wind, rh)
+        sw, lw, wind, qa = atmosphere(fv, par)
+        ch = transfer_coefficient_scalar(tw, ta, wind, par[P.Z0], par[P.ZWIND], par[P.ZAIR], int(par[P.STAB]))
+        fs = net_water_flux_scalar(tw, ta, sw, lw, wind, qa, ch, fv[F.SENS], fv[F.LAT])
     else:
         fs = par[P.HTC] * (ta - tw)
     collecting = y[nb + B.FRAZIL] < 0.0  # frazil not yet new ice: it takes the heat (either sign) first

@@ -11,6 +11,7 @@ from ..constants import SECONDS_PER_DAY
 from ..drainage import BRINE_DENSITY_SLOPE, BRINE_THERMAL_DIFFUSIVITY, BRINE_VISCOSITY, PERCOLATION_WIDTH, \
     PERMEABILITY_LAWS, scheme_settings
 from ..properties import CONDUCTIVITY_MODELS, snow_conductivity_of
+from ..surface import STABILITY_CODES
 from .layout import DRAINAGE_CODES, NPAR, SURFACE_CODES, P
 
 #: Wind speed the energy balance uses when the forcing has no wind_speed (a moderate polar wind;
@@ -70,4 +71,15 @@ def parameter_row(cfg, surface_scheme: str | None = None) -> np.ndarray:
     p[P.DRAMP] = d["onset_smoothing"]
     p[P.DBETA] = BRINE_DENSITY_SLOPE
     p[P.FLUSH] = cfg.drainage.flushing_fraction
+    sf = cfg.surface
+    p[P.ALB_SNOW] = sf.albedo_dry_snow
+    p[P.ALB_SNOW_MELT] = sf.albedo_melting_snow
+    p[P.ALB_ICE] = sf.albedo_ice
+    p[P.ALB_ICE_MELT] = sf.albedo_melting_ice
+    p[P.POND] = sf.pond_fraction
+    p[P.ALB_POND] = sf.albedo_pond
+    p[P.Z0] = sf.roughness_length
+    p[P.ZWIND] = sf.wind_height
+    p[P.ZAIR] = sf.air_temperature_height
+    p[P.STAB] = STABILITY_CODES[sf.stability]
     return p

@@ -18,7 +18,8 @@ melt water at 0 degC (H = 0) carrying the top layer's salt away.
 from __future__ import annotations
 
 from .._jit import jit
-from ..surface import PENETRATION_ICE, SNOW_COVER_THICKNESS, albedo_scalar, net_surface_flux_scalar
+from ..surface import PENETRATION_ICE, SNOW_COVER_THICKNESS, albedo_scalar, net_surface_flux_scalar, \
+    transfer_coefficient_iterate
 from .inputs import atmosphere
 from .layout import B, F, P
 
@@ -86,12 +87,23 @@ def surface_flux(t0, k0, dz, fv, par, hs):
             return f, -1.0 / rc, tm, f_air - f, 0.0
         return f, -1.0 / rt, ts, 0.0, 0.0
     # energy balance: solve F_net(T_s) = (T_s - T0) / rc for T_s
-    sw, lw, wind, rh = atmosphere(fv, par)
+    sw, lw, wind, qa = atmosphere(fv, par)
+    sens = fv[F.SENS]
+    lat = fv[F.LAT]
+    measured = fv[F.ALBEDO]
     i0 = 0.0 if hs >= SNOW_COVER_THICKNESS else PENETRATION_ICE
     ts = t0 if t0 < tm else tm
-    alb = albedo_scalar(hs, ts, tm)
+    z0 = par[P.Z0]
+    zw = par[P.ZWIND]
+    za = par[P.ZAIR]
+    stab = int(par[P.STAB])
+    inv_l = 0.0
+    alb = measured if measured == measured else surface_albedo(hs, ts, tm, par)
+    ch = 0.0
+    dch = 0.0
     for _ in range(30):
-        fn, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
+        ch, dch, inv_l = transfer_coefficient_iterate(ts, ta, wind, z0, zw, za, stab, inv_l)
+        fn, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, qa, alb, i0, ch, sens, lat, dch)
         res = fn - (ts - t0) / rc
         dres = dfn - 1.0 / rc
         step = -res / dres
@@ -104,14 +116,24 @@ def surface_flux(t0, k0, dz, fv, par, hs):
             break
     pen = i0 * (1.0 - alb) * sw
     if ts >= tm:
-        alb = albedo_scalar(hs, tm, tm)
+        alb = measured if measured == measured else surface_albedo(hs, tm, tm, par)
         pen = i0 * (1.0 - alb) * sw
-        fn, _ = net_surface_flux_scalar(tm, ta, sw, lw, wind, rh, alb, i0)
+        ch, dch, inv_l = transfer_coefficient_iterate(tm, ta, wind, z0, zw, za, stab, inv_l)
+        fn, _ = net_surface_flux_scalar(tm, ta, sw, lw, wind, qa, alb, i0, ch, sens, lat, dch)
         f = (tm - t0) / rc
         return f + pen, -1.0 / rc, tm, fn - f, pen
-    _, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, rh, alb, i0)
+    ch, dch, inv_l = transfer_coefficient_iterate(ts, ta, wind, z0, zw, za, stab, inv_l)
+    _, dfn = net_surface_flux_scalar(ts, ta, sw, lw, wind, qa, alb, i0, ch, sens, lat, dch)
     dts = (-1.0 / rc) / (dfn - 1.0 / rc)  # d T_s / d T0 (implicit function)
     return (ts - t0) / rc + pen, (dts - 1.0) / rc, ts, 0.0, pen
+
+
+@jit
+def surface_albedo(hs, ts, tm, par):
+    """Albedo [1] of the surface with snow ``hs`` [m] at ``ts`` [degC] (melting point ``tm``), from
+    the four albedos of the parameter row."""
+    return albedo_scalar(hs, ts, tm, par[P.ALB_SNOW], par[P.ALB_SNOW_MELT], par[P.ALB_ICE], par[P.ALB_ICE_MELT],
+                         par[P.POND], par[P.ALB_POND])
 
 
 @jit

@@ -85,7 +85,7 @@ SURFACE_SCHEMES: tuple[str, ...] = ("auto", "linear", "prescribed", "energy_bala
 #: Names accepted by ``[surface] stability``.
 STABILITY_CHOICES: tuple[str, ...] = ("grachev2007", "neutral")
 #: Names accepted by ``[properties] conductivity_model``.
-CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964")
+CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "parallel_yen1991", "untersteiner1964", "pringle2007")
 #: Names accepted by ``[snow] conductivity_model``.
 SNOW_CONDUCTIVITY_MODELS: tuple[str, ...] = ("constant", "sturm1997")
 #: Names accepted by ``[snow] flooding``.
@@ -446,8 +446,11 @@ class PropertiesSection(_Section):
     """``[properties]``: material properties of ice, brine and snow."""
 
     section: ClassVar[str] = "properties"
-    conductivity_model: str = setting("parallel_yen1991", "", "bulk thermal conductivity of sea ice", "choice",
-                                      choices=CONDUCTIVITY_MODELS)
+    conductivity_model: str = setting(
+        "pringle2007", "", "bulk thermal conductivity of sea ice: pringle2007 (bubbly-brine model, which matches "
+        "conductivities measured on first-year ice, Pringle et al. 2006 and 2007), parallel_yen1991 (liquid-fraction "
+        "weighted Yen et al. 1991 ice and brine), untersteiner1964 (k_i + 0.13 S/T, 10-20 % below the measured) or "
+        "constant", "choice", choices=CONDUCTIVITY_MODELS)
     ice_conductivity: float = setting(C.ICE_CONDUCTIVITY, "W m-1 K-1", "pure-ice conductivity (conductivity_model = constant)",
                                       "float", 0.0, None, True)
     ice_density: float = setting(C.ICE_DENSITY, "kg m-3", "density of pure ice", "float", 0.0, None, True)

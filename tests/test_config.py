@@ -62,7 +62,7 @@ def test_brief_defaults():
     assert cfg.initial.ice_thickness == 0.02
     assert cfg.ocean.salinity == 34.0
     assert cfg.surface.scheme == "auto"  # linear unless the forcing carries shortwave or cloud fraction
-    assert cfg.properties.conductivity_model == "parallel_yen1991"
+    assert cfg.properties.conductivity_model == "pringle2007"
     assert cfg.output.interval == "6h"
     assert cfg.solver.rtol == 1e-3
     assert cfg.run.start is None and cfg.run.end is None

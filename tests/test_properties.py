@@ -51,3 +51,23 @@ def test_untersteiner_bounded_near_melting_point():
 
 def test_constant_model():
     assert float(conductivity(-7.0, 0.3, 6.0, model="constant", constant_value=2.2)) == 2.2
+
+
+def test_pringle2007_against_measured_first_year_conductivity():
+    # Pringle, Trodahl & Haskell (2006, JGR 111, C05020): first-year cores 2.14 +- 0.11 (surface)
+    # and 2.09 +- 0.11 W m-1 K-1 (45-55 cm), consistent with effective-medium predictions; in situ
+    # below 0.5 m 2.26 +- 0.07 and 2.29 +- 0.07 (Pringle 2004, PhD thesis); typical cold first-year
+    # ice of 4-6 g/kg at -5 to -20 degC falls within two standard deviations of them, while the
+    # Untersteiner form (beta 0.13, from memory) is lower
+    from icecolumn.properties import conductivity
+
+    for s_, t in ((5.0, -5.0), (5.0, -10.0), (4.0, -15.0), (6.0, -20.0)):
+        k = float(conductivity(t, 0.0, s_, model="pringle2007"))
+        assert 2.09 - 2 * 0.11 <= k <= 2.29 + 2 * 0.07, (s_, t, k)
+        ku = float(conductivity(t, 0.0, s_, model="untersteiner1964"))
+        assert ku < k
+    # the formula itself (coefficients from memory): 2.11 - 0.011 T + 0.09 S / T
+    assert float(conductivity(-5.0, 0.0, 5.0, model="pringle2007")) == pytest.approx(2.075, abs=1e-12)
+    # fresh ice has no brine term; warm salty mush is bounded by the brine's conductivity
+    assert float(conductivity(-2.0, 0.0, 0.0, model="pringle2007")) == pytest.approx(2.132, abs=1e-12)
+    assert float(conductivity(-1.86, 0.95, 33.0, model="pringle2007")) >= 0.4184 * (1.25 - 0.030 * 1.86)

@@ -46,7 +46,7 @@ def forecast_command(
     snowfall_rate: Annotated[Optional[float], typer.Option(
         "--snowfall-rate", help="Future snowfall when the history has no snowfall column [kg m-2 s-1 water "
                                 "equivalent; default: 3 cm of snow per 30 days at [snow] density; 0 for "
-                                "none].")] = None,
+                                "none]. A history with a snowfall column gives its own.")] = None,
     variables: Annotated[Optional[str], typer.Option(
         "--variables", metavar="NAME,...|all",
         help="Keep these output variables too (comma-separated), or 'all' (profiles, budgets and restart "

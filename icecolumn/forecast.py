@@ -455,6 +455,9 @@ def build_forecast_members(history: xr.Dataset, start, *, ice_thickness: float, 
     hv = np.asarray(history["air_temperature"].values, float)
     has_snowfall = "snowfall" in history
     if has_snowfall:
+        if snowfall_rate is not None:
+            raise InputError(f"snowfall rate: {src} has a snowfall column, so every member takes its analog season's "
+                             "snowfall; leave out the snowfall rate")
         snowfall_source = f"the analog season's snowfall ({src} column snowfall)"
         climate = 0.0
     else:

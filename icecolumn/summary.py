@@ -128,15 +128,14 @@ def measured_snow_check(ds: xr.Dataset, forcing: xr.Dataset) -> MeasuredSnow | N
     increases = float(np.sum(np.clip(np.diff(series), 0.0, None)))
     growth = np.asarray(ds["snow_ice_growth"].values, dtype=float)
     snow_ice = max(float(growth[-1] - growth[0]), 0.0)
-    initial = float(ends[0])
-    warning = None
-    if snow_ice > initial + increases + SNOW_SUPPLY_TOLERANCE:
-        warning = (f"flooding under the measured snow_thickness series formed {snow_ice:.3f} m of snow-ice, more "
-                   f"than the {initial + increases:.3f} m of snow the series shows ({initial:.3f} m at the start plus "
-                   f"{increases:.3f} m of increases): a measured depth is the snow left on the ice, so check the "
-                   f"series (or the [snow] and ice densities), or give snowfall instead and let the model carry "
-                   f"the snow")
-    return MeasuredSnow(snow_ice=snow_ice, initial=initial, increases=increases, warning=warning)
+    m = MeasuredSnow(snow_ice=snow_ice, initial=float(ends[0]), increases=increases, warning=None)
+    if m.snow_ice > m.supply + SNOW_SUPPLY_TOLERANCE:
+        m.warning = (f"flooding under the measured snow_thickness series formed {m.snow_ice:.3f} m of snow-ice, more "
+                     f"than the {m.supply:.3f} m of snow the series shows ({m.initial:.3f} m at the start plus "
+                     f"{m.increases:.3f} m of increases): a measured depth is the snow left on the ice, so check the "
+                     f"series (or the [snow] and ice densities), or give snowfall instead and let the model carry "
+                     f"the snow")
+    return m
 
 
 def run_summary(ds: xr.Dataset, forcing: xr.Dataset | None = None) -> RunSummary:

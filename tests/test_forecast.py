@@ -372,6 +372,8 @@ def test_future_snowfall_is_a_rate_around_the_analog_or_climatology(history, cfg
     expected = hist["snowfall"].sel(time=tt - shift).values * fm2.values["snowfall_factor"][1]
     assert np.allclose(f["snowfall"].values[:300], expected)
     assert "analog season's snowfall" in fm2.snowfall_source
+    with pytest.raises(InputError, match="has a snowfall column"):
+        F.build_forecast_members(hist, START, ice_thickness=0.62, until=UNTIL, config=cfg, snowfall_rate=0.0)
 
 
 def test_snow_grows_with_snowfall_in_the_run(ensemble):

@@ -17,6 +17,12 @@ squares sense (``scipy.optimize.least_squares``, trust-region reflective with bo
   coefficient ``a`` fitted to the same observations.
   ``skill = 1 - RMSE_model / RMSE_baseline``.
 
+* A fit that ends on a bound of :data:`FIT_PARAMETERS` is not a fit: the result lists
+  the parameters in ``at_bound`` and carries a warning (the command writes no file then
+  unless ``--force``).
+* Observed thicknesses above :data:`MAX_OBSERVED_ICE` (ice) or :data:`MAX_OBSERVED_SNOW`
+  (snow) are refused with a hint that they look like centimetres.
+
 The fitted values are written into the user's configuration (only the fitted keys
 change), so ``icecolumn run`` and ``icecolumn forecast`` accept the TOML it writes.
 """
@@ -38,8 +44,8 @@ from .output import CAUTION
 from .textfile import write_text_atomically
 from .texttable import text_table
 
-__all__ = ["FIT_PARAMETERS", "COARSE_INTERVAL", "LEBEDEV_EXPONENT", "CalibrationResult", "calibrate",
-           "write_fitted_config", "format_calibration"]
+__all__ = ["FIT_PARAMETERS", "COARSE_INTERVAL", "LEBEDEV_EXPONENT", "MAX_OBSERVED_ICE", "MAX_OBSERVED_SNOW",
+           "CalibrationResult", "calibrate", "write_fitted_config", "format_calibration", "bound_warning"]
 
 #: Parameters that can be fitted: finite-difference step, bounds and unit.
 FIT_PARAMETERS: dict[str, dict] = {
@@ -51,6 +57,12 @@ FIT_PARAMETERS: dict[str, dict] = {
 COARSE_INTERVAL = "1D"
 #: Exponent of the Lebedev (1938) law h[cm] = 1.33 theta^0.58 (see growth_laws.LAW_REFERENCE).
 LEBEDEV_EXPONENT = 0.58
+#: Thickest drill-hole ice accepted [m]; more looks like centimetres (the model's own limit for
+#: an initial thickness is 10 m too).
+MAX_OBSERVED_ICE = 10.0
+#: Deepest observed snow accepted [m]; more looks like centimetres (snow on sea ice is rarely
+#: deeper than about 1 m; common practice, no source).
+MAX_OBSERVED_SNOW = 3.0
 
 
 @dataclass
@@ -69,6 +81,7 @@ class CalibrationResult:
     skill: float
     config: Config  # the user's configuration with the fitted values
     dataset: xr.Dataset
+    at_bound: tuple = ()  # fitted parameters that ended on a bound of FIT_PARAMETERS
 
 
 def _get(cfg: Config, key: str) -> float:
@@ -108,6 +121,16 @@ def _check_obs(obs: xr.Dataset, t0, t1) -> None:
     t = obs["time"].values.astype("datetime64[ns]")
     if t.size < 1:
         raise InputError(f"{src}: no observations")
+    for name, limit in (("ice_thickness", MAX_OBSERVED_ICE), ("snow_thickness", MAX_OBSERVED_SNOW)):
+        if name not in obs:
+            continue
+        v = np.asarray(obs[name].values, float)
+        big = np.flatnonzero(v > limit)
+        if big.size:
+            k = int(big[0])
+            where = f"line {int(obs['line'].values[k])}" if "line" in obs else f"observation {k + 1}"
+            raise InputError(f"{src}: {where}: {name} {v[k]:g} m is more than {limit:g} m and looks like "
+                             f"centimetres; give thicknesses in metres ({v[k]:g} cm = {v[k] / 100:g} m)")
     if np.any(np.diff(t.astype("int64")) <= 0):
         k = int(np.flatnonzero(np.diff(t.astype("int64")) <= 0)[0]) + 1
         raise InputError(f"{src}: observation {k + 1} ({str(t[k])[:16]}) is not after the one before; "
@@ -227,6 +250,9 @@ def calibrate(forcing: xr.Dataset, obs: xr.Dataset, config: Config | None = None
     fitted = cfg
     for k, v in zip(names, sol.x):
         fitted = _set(fitted, k, float(v))
+    # on a bound: within a thousandth of a finite-difference step of it
+    at_bound = tuple(k for k, v, a, b, st in zip(names, sol.x, lo, hi, steps)
+                     if v <= a + 1e-3 * st or v >= b - 1e-3 * st)
     ds = xr.Dataset(
         {"observed_ice_thickness": ("time", h_obs, {"units": "m", "long_name": "observed ice thickness"}),
          "model_ice_thickness": ("time", h_mod, {"units": "m", "long_name": "calibrated model ice thickness at the "
@@ -252,11 +278,28 @@ def calibrate(forcing: xr.Dataset, obs: xr.Dataset, config: Config | None = None
                "uncertainty_method": "(J^T J)^-1 s^2 at the solution, forward-difference Jacobian",
                "degrees_of_freedom": dof, "model_evaluations": count[0],
                "fitted_config": fitted.to_toml(), "caution": CAUTION,
+               "fit_at_bound": ", ".join(at_bound),
                "forcing_file": str(forcing.attrs.get("source_file", "<in memory>")),
                "observation_file": str(obs.attrs.get("source_file", "<in memory>"))})
     return CalibrationResult(names=names, values=np.asarray(sol.x, float), sigma=sigma, covariance=cov,
                              correlation=corr, rmse=rmse, bias=bias, baseline_coefficient=a,
-                             baseline_rmse=rmse_base, skill=skill, config=fitted, dataset=ds)
+                             baseline_rmse=rmse_base, skill=skill, config=fitted, dataset=ds, at_bound=at_bound)
+
+
+def bound_warning(result: CalibrationResult) -> str | None:
+    """One line when the fit ended on a bound (then it is not a fit), else None."""
+    if not result.at_bound:
+        return None
+    parts = []
+    for k in result.at_bound:
+        j = result.names.index(k)
+        lo, hi = FIT_PARAMETERS[k]["bounds"]
+        v = float(result.values[j])
+        side = lo if abs(v - lo) <= abs(v - hi) else hi
+        parts.append(f"{k} = {v:.4g} {FIT_PARAMETERS[k]['unit']} (bound {side:g})")
+    return ("the fit ended on a bound: " + "; ".join(parts) + "; the observations are not matched inside the "
+            "allowed range (check the observations, the forcing and the initial state), and the value and its "
+            "uncertainty are not a fit")
 
 
 def write_fitted_config(result: CalibrationResult, path, overwrite: bool = False):
@@ -274,6 +317,9 @@ def format_calibration(result: CalibrationResult) -> str:
     if len(result.names) == 2:
         lines.append(f"correlation: {result.correlation[0, 1]:+.2f}")
     n = result.dataset.sizes["time"]
+    warn = bound_warning(result)
+    if warn is not None:
+        lines.append(f"warning: {warn}")
     lines += [f"observations: {n}; rmse {result.rmse:.3f} m; bias (model - obs) {result.bias:+.3f} m",
               f"baseline Lebedev-type law a = {result.baseline_coefficient:.4g}: rmse {result.baseline_rmse:.3f} m; "
               f"skill 1 - rmse/rmse_baseline = {result.skill:.2f}",

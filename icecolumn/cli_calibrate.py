@@ -29,9 +29,12 @@ def calibrate_command(
                                                "snow.conductivity).")] = None,
     dataset: Annotated[Optional[Path], typer.Option("--dataset", help="Also write the calibration NetCDF.")] = None,
     overwrite: OverwriteOpt = False,
+    force: Annotated[bool, typer.Option("--force", help="Write the files even when the fit ended on a bound of "
+                                        "its parameter (by default that is a warning, no file and exit code 1).")]
+    = False,
 ) -> None:
     """Fit the ocean heat flux (and one more parameter) to drill-hole thickness."""
-    from .calibrate import calibrate, format_calibration, write_fitted_config
+    from .calibrate import bound_warning, calibrate, format_calibration, write_fitted_config
     from .observations import read_observations
     from .plotting_forecast import plot_forecast_file
 
@@ -43,6 +46,11 @@ def calibrate_command(
     cfg = model_config(config, assignments)
     data = icecolumn.read_forcing(forcing, column_map(cfg, columns), max_gap=cfg.forcing.max_gap_seconds)
     result = calibrate(data, read_observations(obs), cfg, extra=extra)
+    if bound_warning(result) is not None and not force:
+        typer.echo(format_calibration(result))
+        typer.echo("icecolumn: warning: the fit ended on a bound (see above); no file written (use --force to "
+                   "write it)", err=True)
+        raise typer.Exit(1)
     write_fitted_config(result, out, overwrite=overwrite)
     lines = [format_calibration(result), f"fitted configuration: {out}"]
     if dataset is not None:

@@ -43,9 +43,18 @@ def forecast_command(
     obs: ObsOpt = None,
     no_perturb: Annotated[bool, typer.Option("--no-perturb", help="Analog years only, no parameter "
                                              "perturbations.")] = False,
+    snowfall_rate: Annotated[Optional[float], typer.Option(
+        "--snowfall-rate", help="Future snowfall when the history has no snowfall column [kg m-2 s-1 water "
+                                "equivalent; default: 3 cm of snow per 30 days at [snow] density; 0 for "
+                                "none]. A history with a snowfall column gives its own.")] = None,
+    variables: Annotated[Optional[str], typer.Option(
+        "--variables", metavar="NAME,...|all",
+        help="Keep these output variables too (comma-separated), or 'all' (profiles, budgets and restart "
+             "state; about 1.5 MB per member). By default a forecast keeps the thickness, snow, "
+             "temperature and salt time series and the percentiles.")] = None,
 ) -> None:
     """Ensemble forecast of ice thickness from analog years of the station history."""
-    from .forecast import check_thickness, exceedance, initial_profile, run_forecast, summary_table
+    from .forecast import add_exceedance, check_thickness, exceedance, initial_profile, run_forecast, summary_table
     from .observations import read_observations
     from .plotting_forecast import plot_forecast_file
     from .profiles import read_core, read_thermistor
@@ -74,19 +83,29 @@ def forecast_command(
     with progress_bar() as bar:
         ds = run_forecast(hist, t0, ice_thickness=ice_thickness, snow_thickness=snow_thickness, profile=prof,
                           weather=wx, until=until, members=members, seed=seed, config=cfg,
-                          perturb=not no_perturb, progress=bar)
+                          perturb=not no_perturb, progress=bar, snowfall_rate=snowfall_rate, variables=variables)
     ds.attrs["forecast_initial_state"] = " | ".join(notes)
     ex = exceedance(ds, threshold, by) if threshold is not None else None
+    if ex is not None:
+        add_exceedance(ds, ex)
     icecolumn.write_netcdf(ds, out, overwrite=overwrite)
     figs = plot_forecast_file(ds, folder_of(out), obs=drill, threshold=threshold, by=by, stem=out.stem)
     n = ds.sizes["member"]
+    n_eff = ds.attrs["forecast_effective_samples"]
     lines = [f"forecast from {format_time(t0, 'm')}, {n} members ({ds.attrs['forecast_member_mapping']})",
-             *(f"initial state: {s}" for s in notes), "", "ice thickness:", summary_table(ds).rstrip("\n")]
+             *(f"initial state: {s}" for s in notes), f"snow: {ds.attrs['forecast_snowfall']} (prognostic)", "",
+             f"ice thickness (season-weighted percentiles; {n_eff:.3g} effective weather samples):",
+             summary_table(ds).rstrip("\n")]
     if ex is not None:
-        k = round(ex["p_reached"] * n)
-        lines += ["", f"P(ice reaches {ex['threshold']:g} m by {ex['by'][:10]}) = {ex['p_reached']:.2f} "
-                      f"({k} of {n} members); P(still thinner) = {ex['p_thinner']:.2f}",
-                  "these fractions are conditional on the model and on the analog history"]
+        lf = cfg.output.load_bearing_liquid_fraction
+        lines += ["", f"P(load-bearing ice reaches {ex['threshold']:g} m by {ex['by'][:10]}) = {ex['p_reached']:.2f} "
+                      f"({ex['members_reached']} of {n} members); P(still thinner) = {ex['p_thinner']:.2f} "
+                      f"({ex['members_thinner']} of {n}); effective weather samples {ex['effective_samples']:.3g}",
+                  f"load-bearing: the model's load_bearing_thickness, ice with a liquid fraction of at most {lf:g} "
+                  "([output] load_bearing_liquid_fraction), without the weak porous bottom",
+                  "the fractions are season-weighted (every analog season counts the same) and rest on "
+                  f"{ex['effective_samples']:.3g} independent weather samples (the analog seasons; Kish effective "
+                  "size of the season weights); they are conditional on the model and on the analog history"]
     lines += ["", f"output: {out}", *(f"figure: {f}" for f in figs), "", CAUTION]
     typer.echo("\n".join(lines))
 

@@ -38,6 +38,8 @@ def format_run_summary(s: RunSummary, path: Path) -> str:
     ]
     if ev.snow_ice > 0:
         lines.append(f"snow-ice:       {ev.snow_ice:.3f} m formed by flooding")
+    if s.measured_snow is not None:
+        lines.append(f"measured snow:  {s.measured_snow.note()}")
     if ev.melt_out:
         lines.append(f"melt-out:       {_dates(ev.melt_out)}")
     if ev.new_ice:
@@ -52,6 +54,7 @@ def format_run_summary(s: RunSummary, path: Path) -> str:
         "brine budget by month (kg m-2):",
         format_brine_budget(s.brine_by_month).rstrip("\n"),
         "",
+        *(f"warning: {w}" for w in s.warnings),
         CAUTION,
     ]
     return "\n".join(lines)
@@ -96,7 +99,7 @@ def run_command(
         else:
             ds = run_restart(data, cfg, previous, progress=bar, source=str(restart_from))
     icecolumn.write_netcdf(ds, out, overwrite=overwrite)
-    typer.echo(format_run_summary(run_summary(ds), out))
+    typer.echo(format_run_summary(run_summary(ds, data), out))
 
 
 def config_command(

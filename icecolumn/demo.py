@@ -2,8 +2,8 @@
 growth-law table and its figures, written into one folder.
 
 The sample files are the repository's ``forcing_samples/`` (also looked for in
-``./forcing_samples/``); an installed package carries a copy of the sample winter in
-``icecolumn/samples/``.
+``./forcing_samples/``); an installed package carries copies of the sample winter and of the
+forecast demo's files (:data:`FORECAST_SAMPLES`) in ``icecolumn/samples/``.
 """
 from __future__ import annotations
 
@@ -21,18 +21,25 @@ from .model import run
 from .output import write_netcdf
 from .textfile import check_new_output
 
-__all__ = ["SAMPLE_NAME", "FIGURE_NAMES", "sample_file", "demo_files", "DemoResult", "run_demo"]
+__all__ = ["SAMPLE_NAME", "FIGURE_NAMES", "FORECAST_SAMPLES", "FORECAST_FILES", "sample_file", "demo_files",
+           "DemoResult", "run_demo"]
 
 #: The sample winter's file name.
 SAMPLE_NAME = "station_winter.csv"
 #: The figures the demo draws (:func:`icecolumn.plotting.plot_run`).
 FIGURE_NAMES = ("thickness", "sections", "salt", "profiles")
+#: The (invented) files ``demo --forecast`` reads; copies ship in ``icecolumn/samples/``.
+FORECAST_SAMPLES = ("station_history.csv", "thermistor_example.csv", "core_example.csv", "drillholes.csv")
+#: The files ``demo --forecast`` writes into the demo folder.
+FORECAST_FILES = ("forecast.nc", "forecast_fan.png")
+#: The repository's sample folder (absent in an installed package).
+_REPOSITORY_SAMPLES = Path(__file__).resolve().parent.parent / "forcing_samples"
 
 
 def sample_file(name: str = SAMPLE_NAME) -> Path:
     """A bundled sample file: the repository's forcing_samples/, ./forcing_samples/, or the
-    copy shipped inside the package (the sample winter only)."""
-    here = Path(__file__).resolve().parent.parent / "forcing_samples" / name
+    copy shipped inside the package (icecolumn/samples/)."""
+    here = _REPOSITORY_SAMPLES / name
     cwd = Path.cwd() / "forcing_samples" / name
     for candidate in (here, cwd):
         if candidate.is_file():
@@ -64,11 +71,13 @@ class DemoResult:
     files: list[Path]  # the run, the laws table, the figures
 
 
-def run_demo(outdir, overwrite: bool = False, config: Config | None = None, progress=None) -> DemoResult:
+def run_demo(outdir, overwrite: bool = False, config: Config | None = None, progress=None,
+             forecast: bool = False) -> DemoResult:
     """Run the sample winter and write the run, its growth-law table and figures into ``outdir``.
 
-    Every file is checked before anything runs: an existing one is an
-    :class:`InputError` unless ``overwrite``.
+    Every file is checked before anything runs (with ``forecast``, also the
+    :data:`FORECAST_FILES` the forecast demo writes afterwards, and its sample files are
+    looked up): an existing one is an :class:`InputError` unless ``overwrite``.
     """
     from .plotting import plot_run
 
@@ -76,8 +85,11 @@ def run_demo(outdir, overwrite: bool = False, config: Config | None = None, prog
     if outdir.exists() and not outdir.is_dir():
         raise InputError(f"{outdir}: exists and is not a folder")
     planned = demo_files(outdir)
+    if forecast:
+        for name in FORECAST_SAMPLES:
+            sample_file(name)
     if outdir.is_dir():
-        for path in planned:
+        for path in [*planned, *(outdir / name for name in FORECAST_FILES if forecast)]:
             check_new_output(path, overwrite)
     outdir.mkdir(parents=True, exist_ok=True)
     forcing = read_forcing(sample_file())

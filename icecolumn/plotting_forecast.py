@@ -38,7 +38,8 @@ def _caution(fig: Figure) -> None:
 
 def plot_fan_chart(ds: xr.Dataset, obs: xr.Dataset | None = None, threshold: float | None = None,
                    by=None, title: str | None = None) -> Figure:
-    """Fan chart of forecast ice thickness: 5-95 % and 25-75 % bands, median, observations."""
+    """Fan chart of forecast ice thickness: 5-95 % and 25-75 % bands, median, the median
+    load-bearing thickness (the thickness the threshold probability uses), observations."""
     if not is_forecast(ds):
         raise InputError(f"{ds.encoding.get('source', 'dataset')}: not a forecast (no ice_thickness_percentile)")
     t = ds["time"].values
@@ -49,10 +50,14 @@ def plot_fan_chart(ds: xr.Dataset, obs: xr.Dataset | None = None, threshold: flo
     ax.fill_between(t, q[5.0], q[95.0], color="tab:blue", alpha=0.2, lw=0, label="5-95 %")
     ax.fill_between(t, q[25.0], q[75.0], color="tab:blue", alpha=0.4, lw=0, label="25-75 %")
     ax.plot(t, q[50.0], color="tab:blue", lw=2, label="median")
+    if "load_bearing_thickness_percentile" in ds:
+        lb = np.asarray(ds["load_bearing_thickness_percentile"].sel(percentile=50.0).values, float)
+        ax.plot(t, lb, color="tab:green", lw=1.5, ls="--", label="median load-bearing thickness")
     if obs is not None and "ice_thickness" in obs:
         ax.plot(obs["time"].values, obs["ice_thickness"].values, "ko", ms=4, label="drill holes")
     if threshold is not None:
-        ax.axhline(float(threshold), color="tab:red", ls="--", lw=1, label=f"threshold {float(threshold):g} m")
+        ax.axhline(float(threshold), color="tab:red", ls="--", lw=1,
+                   label=f"threshold {float(threshold):g} m (load-bearing)")
     if by is not None:
         ax.axvline(np.datetime64(str(by)[:16]), color="tab:red", ls=":", lw=1, label=f"by {str(by)[:10]}")
     n = ds.sizes.get("member", 1)

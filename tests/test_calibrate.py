@@ -14,7 +14,8 @@ import xarray as xr
 from typer.testing import CliRunner
 
 import icecolumn as ic
-from icecolumn.calibrate import _lebedev_baseline, calibrate, write_fitted_config
+from icecolumn.calibrate import (COARSE_INTERVAL, FIT_PARAMETERS, _lebedev_baseline, calibrate, format_calibration,
+                                 write_fitted_config)
 from icecolumn.cli import app
 from icecolumn.errors import InputError
 
@@ -166,3 +167,106 @@ def test_two_sigma_interval_covers_the_truth(setup):
     frac = covered / draws
     print(f"\n2-sigma coverage {covered}/{draws} = {frac:.2f}")
     assert 0.85 <= frac <= 1.0
+
+
+# --------------------------------------------------------------------------- issue 15, item 2
+
+
+def test_fit_on_a_bound_is_a_warning(setup):
+    forcing, cfg, times, h = setup
+    # invented holes three times thicker than the model can grow: only an ocean heat flux below the
+    # lowest bound could match them
+    r = calibrate(forcing, _obs(times, 3.0 * h), cfg)
+    lo = FIT_PARAMETERS["ocean.heat_flux"]["bounds"][0]
+    assert r.values[0] == pytest.approx(lo)
+    assert r.at_bound == ("ocean.heat_flux",)
+    text = format_calibration(r)
+    assert "warning: the fit ended on a bound: ocean.heat_flux" in text and f"(bound {lo:g})" in text
+    assert r.dataset.attrs["fit_at_bound"] == "ocean.heat_flux"
+    ok = calibrate(forcing, _obs(times, h), cfg)
+    assert ok.at_bound == () and "warning" not in format_calibration(ok)
+
+
+def test_cli_fit_on_a_bound_writes_no_file_without_force(tmp_path, monkeypatch, sample_forcing_path, setup):
+    _, cfg, times, h = setup
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "c.toml").write_text(cfg.to_toml())
+    rows = ["time,ice_thickness"] + [f"{str(t)[:16]}Z,{3 * v:.4f}" for t, v in zip(times, h)]
+    (tmp_path / "obs.csv").write_text("\n".join(rows) + "\n")
+    args = ["calibrate", str(sample_forcing_path), "--obs", "obs.csv", "-c", "c.toml", "-o", "fit.toml",
+            "--dataset", "cal.nc"]
+    r = runner.invoke(app, args)
+    assert r.exit_code == 1, (r.stdout, r.stderr)
+    assert "the fit ended on a bound" in r.stdout
+    err = [ln for ln in r.stderr.splitlines() if ln.strip()]
+    assert len(err) == 1 and "no file written (use --force" in err[0]
+    assert not (tmp_path / "fit.toml").exists() and not (tmp_path / "cal.nc").exists()
+    r2 = runner.invoke(app, [*args, "--force"])
+    assert r2.exit_code == 0, (r2.stdout, r2.stderr)
+    assert (tmp_path / "fit.toml").is_file() and (tmp_path / "cal.nc").is_file()
+    assert "warning: the fit ended on a bound" in r2.stdout
+
+
+def test_cli_thickness_in_centimetres_is_refused_with_a_hint(tmp_path, monkeypatch, sample_forcing_path, setup):
+    _, cfg, times, h = setup
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "c.toml").write_text(cfg.to_toml())
+    rows = ["# invented drill holes written in cm by mistake", "time,ice_thickness,snow_thickness"]
+    rows += [f"{str(t)[:16]}Z,{100 * v:.1f},5" for t, v in zip(times, h)]
+    (tmp_path / "cm.csv").write_text("\n".join(rows) + "\n")
+    r = runner.invoke(app, ["calibrate", str(sample_forcing_path), "--obs", "cm.csv", "-c", "c.toml", "-o", "f.toml"])
+    assert r.exit_code == 2
+    err = [ln for ln in r.stderr.splitlines() if ln.strip()]
+    assert len(err) == 1 and "cm.csv: line 3: ice_thickness" in err[0] and "looks like centimetres" in err[0]
+    assert "Traceback" not in r.stderr and not (tmp_path / "f.toml").exists()
+    # snow in centimetres too (ice in metres)
+    rows = ["time,ice_thickness,snow_thickness"] + [f"{str(t)[:16]}Z,{v:.4f},12" for t, v in zip(times, h)]
+    (tmp_path / "snow.csv").write_text("\n".join(rows) + "\n")
+    r = runner.invoke(app, ["calibrate", str(sample_forcing_path), "--obs", "snow.csv", "-c", "c.toml", "-o", "f.toml"])
+    assert r.exit_code == 2 and "snow_thickness 12 m" in r.stderr and "12 cm = 0.12 m" in r.stderr
+
+
+SNOW_TRUE_FLUX = 8.0  # W m-2, the truth of the snowfall twin (invented; the value of issue 15)
+
+
+@pytest.fixture(scope="module")
+def snowfall_twin(sample_forcing):
+    """The INVENTED sample winter with INVENTED snowfall: 6-hour events of 0.25 mm/h water
+    equivalent every 5 days (about 0.12 m of snow by March at 300 kg m-3); exact holes every
+    10 days from a truth run at hourly output, which resolves the hourly forcing."""
+    t = sample_forcing["time"].values
+    hours = ((t - t[0]) / np.timedelta64(1, "h")).astype(int)
+    fall = np.where(hours % 120 < 6, 0.25 / 3600.0, 0.0)
+    forcing = sample_forcing.assign(snowfall=("time", fall, {"units": "kg m-2 s-1"}))
+    cfg = (ic.default_config().replace("grid", layers=12).replace("initial", ice_thickness=0.10)
+           .replace("run", start="2026-11-01T00:00", end="2027-03-01T00:00"))
+    obs_t = np.datetime64("2026-11-01T00:00", "ns") + np.arange(10, 120, 10) * np.timedelta64(1, "D")
+    return forcing, cfg, obs_t
+
+
+def _truth_holes(forcing, cfg, obs_t, interval):
+    truth = ic.run(forcing, cfg.replace("ocean", heat_flux=SNOW_TRUE_FLUX).replace("output", interval=interval))
+    assert float(truth["snow_thickness"][-1]) > 0.1  # the snow really builds up
+    return _obs(obs_t, truth["ice_thickness"].sel(time=obs_t).values)
+
+
+@pytest.mark.xfail(reason="issue 15, item 1: the kernel samples rate forcing (snowfall) instead of integrating it, "
+                          "so the calibration's daily-output runs see other snow than the hourly truth (7.70 +- "
+                          "0.015 W m-2 on this branch); remove this mark after the kernel fix", strict=False)
+def test_snowfall_twin_recovers_the_ocean_heat_flux_within_its_interval(snowfall_twin):
+    """Issue 15, item 2: exact holes from a truth at hourly output; the calibration runs at daily output."""
+    forcing, cfg, obs_t = snowfall_twin
+    r = calibrate(forcing, _truth_holes(forcing, cfg, obs_t, "1h"), cfg)
+    q, s = float(r.values[0]), float(r.sigma[0])
+    print(f"\nsnowfall twin: fitted {q:.4f} +/- {s:.4f} W m-2 (truth {SNOW_TRUE_FLUX})")
+    assert abs(q - SNOW_TRUE_FLUX) <= 2 * s
+
+
+def test_snowfall_twin_at_the_calibration_interval_is_exact(snowfall_twin):
+    """Control for the test above: with the truth at the calibration's own (daily) output the same
+    fit is exact, so calibrate itself is unbiased and what is left is the output-interval
+    dependence of the kernel."""
+    forcing, cfg, obs_t = snowfall_twin
+    r = calibrate(forcing, _truth_holes(forcing, cfg, obs_t, COARSE_INTERVAL), cfg)
+    assert r.values[0] == pytest.approx(SNOW_TRUE_FLUX, abs=1e-3)
+    assert r.at_bound == ()

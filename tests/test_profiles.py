@@ -94,7 +94,7 @@ def test_forecast_starts_from_the_thermistor_profile():
     core = read_core(CORE, 0.62)
     prof, _ = initial_profile(0.62, therm, core)
     ds = run_forecast(hist, "2027-01-10T00:00", ice_thickness=0.62, snow_thickness=0.15, profile=prof,
-                      until="2027-01-20T00:00", members=2, perturb=False, config=cfg)
+                      until="2027-01-20T00:00", members=2, perturb=False, config=cfg, variables="all")
     z = ds["depth"].isel(member=0, time=0).values
     tf = model.ocean_freezing_temperature(cfg)
     expected_t = np.minimum(np.interp(z, therm.depth, therm.temperature), tf)
@@ -105,5 +105,5 @@ def test_forecast_starts_from_the_thermistor_profile():
     assert np.allclose(got_s, expected_s, atol=1e-9)
     # and it differs from the model's default linear start
     plain = run_forecast(hist, "2027-01-10T00:00", ice_thickness=0.62, snow_thickness=0.15,
-                         until="2027-01-20T00:00", members=1, perturb=False, config=cfg)
+                         until="2027-01-20T00:00", members=1, perturb=False, config=cfg, variables="all")
     assert np.max(np.abs(plain["temperature"].isel(member=0, time=0).values - got_t)) > 0.5

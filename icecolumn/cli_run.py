@@ -90,7 +90,7 @@ def run_command(
             raise InputError(f"{restart_from}: the restart file cannot also be the output file")
         previous = open_output(restart_from)
         restart_state(previous, cfg, str(restart_from))  # check before running
-    with progress_bar() as bar:
+    with progress_bar(batch=False) as bar:  # one column: the serial kernel
         if previous is None:
             ds = icecolumn.run(data, cfg, progress=bar)
         else:

@@ -39,10 +39,11 @@ from matplotlib.figure import Figure
 from icecolumn.constants import SECONDS_PER_DAY
 from icecolumn.errors import InputError
 from icecolumn.output_io import check_output_dataset
-from icecolumn.textfile import write_atomically
+from icecolumn.textfile import check_new_output, write_atomically, write_files_atomically
 
 __all__ = [
     "FIELDS",
+    "FIGURE_NAMES",
     "LAW_LABELS",
     "OUTPUT_VARIABLES",
     "plot_profiles",
@@ -79,6 +80,8 @@ OUTPUT_VARIABLES = tuple(
 
 FORMATS = ("png", "pdf", "svg")
 BAND_PERCENTILES = (5.0, 95.0)
+#: The figures :func:`plot_run` writes, ``<name>.<format>``.
+FIGURE_NAMES = ("thickness", "sections", "salt", "profiles")
 
 _SUPERSCRIPT = str.maketrans("-0123456789", "\u207b\u2070\u00b9\u00b2\u00b3\u2074\u2075\u2076\u2077\u2078\u2079")
 
@@ -513,8 +516,13 @@ def plot_profiles(ds: xr.Dataset, dates: Sequence[Any] | None, title: str | None
     return fig
 
 
+def _saver(fig: Figure, fmt: str, dpi: int = 150):
+    """``write(path)`` saving ``fig`` in ``fmt`` (for the atomic writers of :mod:`icecolumn.textfile`)."""
+    return lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi)
+
+
 def _save_atomic(fig: Figure, path: Path, fmt: str, dpi: int = 150) -> Path:
-    return write_atomically(path, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi), suffix=f".{fmt}")
+    return write_atomically(path, _saver(fig, fmt, dpi), suffix=f".{fmt}")
 
 
 def plot_run(
@@ -527,27 +535,33 @@ def plot_run(
     thermistor: xr.Dataset | Mapping[str, Any] | None = None,
     core: xr.Dataset | Mapping[str, Any] | None = None,
     title: str | None = None,
+    overwrite: bool = True,
 ) -> list[Path]:
     """Write thickness, sections, salt and profiles figures into ``outdir``.
 
-    Each file is saved under a temporary name in ``outdir`` and then renamed,
-    so a reader never sees a half-written figure.  Returns the written paths.
+    All four figures are drawn first and then written all or none
+    (:func:`icecolumn.textfile.write_files_atomically`: temporary names in ``outdir``, then
+    renamed), so a reader never sees a half-written figure and a failure leaves no new
+    file.  An existing figure is replaced unless ``overwrite`` is False (then it is an
+    :class:`InputError` before anything is written).  Returns the written paths.
     """
     fmt = str(fmt).lower().lstrip(".")
     if fmt not in FORMATS:
         raise InputError(f"figure format {fmt!r} is not one of {', '.join(FORMATS)}")
     check_output_dataset(ds, _source(ds), OUTPUT_VARIABLES)
     out = Path(outdir)
+    if out.is_dir():  # refuse before drawing
+        for name in FIGURE_NAMES:
+            check_new_output(out / f"{name}.{fmt}", overwrite)
+    figures = (plot_thickness(ds, laws=laws, obs=obs, title=title),
+               plot_sections(ds, thermistor=thermistor, core=core, title=title),
+               plot_salt(ds, title=title),
+               plot_profiles(ds, profiles, title=title))
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise InputError(f"{out}: cannot create figure directory ({exc.strerror})") from None
     if not out.is_dir():
         raise InputError(f"{out}: not a directory")
-    figures = [
-        ("thickness", plot_thickness(ds, laws=laws, obs=obs, title=title)),
-        ("sections", plot_sections(ds, thermistor=thermistor, core=core, title=title)),
-        ("salt", plot_salt(ds, title=title)),
-        ("profiles", plot_profiles(ds, profiles, title=title)),
-    ]
-    return [_save_atomic(fig, out / f"{name}.{fmt}", fmt) for name, fig in figures]
+    files = {out / f"{name}.{fmt}": _saver(fig, fmt) for name, fig in zip(FIGURE_NAMES, figures)}
+    return write_files_atomically(files, overwrite=overwrite)

@@ -9,23 +9,27 @@ One helper per job:
   floats, naming the line and column of the first bad cell;
 * :func:`output_path` and :func:`check_new_output`: where an output goes, and the refusal
   to replace an existing file without ``--overwrite``;
-* :func:`write_atomically` / :func:`write_text_atomically`: an output is written under a
-  temporary name beside its target and renamed into place, so no partial file is left.
+* :func:`write_atomically` / :func:`write_text_atomically` / :func:`write_files_atomically`: an
+  output (or several, all or none) is written under a temporary name beside its target and
+  renamed into place, so no partial file is left; outputs get the user's usual permissions
+  (0o666 less the umask) and write errors name the user's path, never the temporary file.
 """
 from __future__ import annotations
 
 import csv
+import errno
 import os
+import shutil
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
+from .errors import IceColumnError, InputError
 
 __all__ = ["read_user_bytes", "read_user_text", "CsvTable", "read_csv", "output_path", "check_new_output",
-           "write_atomically", "write_text_atomically"]
+           "write_atomically", "write_text_atomically", "write_files_atomically"]
 
 
 def read_user_bytes(path, what: str) -> bytes:
@@ -207,31 +211,142 @@ def check_new_output(path, overwrite: bool = False) -> Path:
     return folder
 
 
-def write_atomically(path, write, suffix: str = ".tmp") -> Path:
-    """Call ``write(temporary_path)`` on a temporary file beside ``path``, flush it to disk and
-    rename it to ``path``; on any failure the temporary file is removed and nothing is left
-    behind (an existing ``path`` is untouched)."""
-    path = Path(path)
+def _user_permissions(path) -> None:
+    """Give ``path`` the permissions a file created normally gets (0o666 less the umask);
+    :func:`tempfile.mkstemp` makes its files private (0o600)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(path, 0o666 & ~umask)
+
+
+#: Below this much free space in the output's folder, a failed write says the disk may be full.
+_LOW_DISK_BYTES = 64 * 2**20
+
+
+def _disk_hint(folder: Path) -> str:
+    try:
+        free = shutil.disk_usage(folder).free
+    except OSError:
+        return ""
+    return f" (the disk may be full: {free / 2**20:.1f} MB free in {folder})" if free < _LOW_DISK_BYTES else ""
+
+
+def _named_for_user(err: Exception, tmp: str, path: Path) -> Exception | None:
+    """An error of writing the temporary file ``tmp`` restated for the user's ``path``, or None to
+    re-raise ``err`` as it is.
+
+    * An :class:`OSError` about the temporary file or about no file (e.g. "No space left on
+      device" while writing) keeps its errno (and so its subclass, e.g. :class:`PermissionError`)
+      with ``path`` as its file name.  One about another file is left as it is.
+    * An error of the NetCDF library (a :class:`RuntimeError` whose text starts ``NetCDF:``) or
+      any other error whose text names the temporary file becomes one
+      :class:`~icecolumn.errors.IceColumnError` line ``<path>: cannot write: <its text, the
+      temporary name replaced by path>``.
+
+    A hint that the disk may be full is added when the folder has little free space left.
+    """
+    tmp_name = os.path.basename(tmp)
+    folder = path.parent if str(path.parent) else Path(".")
+
+    def for_user(text: str) -> str:
+        return " ".join(text.replace(tmp, str(path)).replace(tmp_name, path.name).split())
+
+    text = str(err)
+    if isinstance(err, OSError):
+        if err.filename is not None and tmp_name not in str(err.filename):
+            return None
+        reason = for_user(err.strerror or text or type(err).__name__)
+        if err.errno is None or err.errno < 0 or err.errno == errno.ENOSPC:  # a library code, or a full disk
+            reason += _disk_hint(folder)
+        return OSError(err.errno, reason, str(path))
+    netcdf = isinstance(err, RuntimeError) and text.startswith("NetCDF:")
+    if not netcdf and tmp_name not in text:
+        return None
+    return IceColumnError(f"{path}: cannot write: {for_user(text)}{_disk_hint(folder)}")
+
+
+def _write_temporary(path: Path, write, suffix: str) -> str:
+    """Write one output under a temporary name beside ``path`` (user permissions, flushed to
+    disk); returns the temporary name.  On failure nothing is left and the error names
+    ``path``, not the temporary file."""
     folder = path.parent if str(path.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix, dir=folder)
     os.close(fd)
     try:
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)  # the user's usual permissions (mkstemp makes the file private)
-        write(tmp)
+        if isinstance(write, str):
+            Path(tmp).write_text(write, encoding="utf-8", newline="\n")
+        else:
+            write(tmp)
+        _user_permissions(tmp)  # after writing: a writer may have made the file anew
         with open(tmp, "rb") as fh:
             os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
+    except BaseException as err:
         if os.path.exists(tmp):
             os.unlink(tmp)
-        raise
+        restated = _named_for_user(err, tmp, path) if isinstance(err, Exception) else None
+        if restated is None:
+            raise
+        raise restated from err
+    return tmp
+
+
+def write_atomically(path, write, suffix: str = ".tmp") -> Path:
+    """Call ``write(temporary_path)`` on a temporary file beside ``path``, flush it to disk and
+    rename it to ``path``; on any failure the temporary file is removed and nothing is left
+    behind (an existing ``path`` is untouched).
+
+    The file gets the user's usual permissions (0o666 less the umask), and an error while
+    writing names ``path``, never the temporary file.  ``write`` may also be a ``str``: the
+    text written as UTF-8.
+    """
+    path = Path(path)
+    tmp = _write_temporary(path, write, suffix)
+    try:
+        os.replace(tmp, path)
+    except BaseException as err:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        restated = _named_for_user(err, tmp, path) if isinstance(err, Exception) else None
+        if restated is None:
+            raise
+        raise restated from err
     return path
 
 
 def write_text_atomically(path, text: str, overwrite: bool = False) -> Path:
     """Write UTF-8 ``text`` to ``path`` atomically, refusing to replace a file unless ``overwrite``."""
     check_new_output(path, overwrite)
-    return write_atomically(path, lambda tmp: Path(tmp).write_text(text, encoding="utf-8", newline="\n"))
+    return write_atomically(path, text)
 
+
+def write_files_atomically(files: dict, overwrite: bool = False) -> list[Path]:
+    """Write several files all-or-nothing.
+
+    ``files`` maps each path to its content: ``str`` (UTF-8 text) or a callable
+    ``write(temporary_path)``.  Every path is checked first (an existing file without
+    ``overwrite``, a missing folder, the same path twice is an :class:`InputError`); then
+    each is written to a temporary file beside it as :func:`write_atomically` does (user
+    permissions, errors naming the user's path), and only when all succeeded are they
+    renamed into place.  On any failure the temporary files are removed and no output
+    exists that did not exist before.
+    """
+    paths = [Path(p) for p in files]
+    seen = set()
+    for p in paths:
+        key = os.path.abspath(p)
+        if key in seen:
+            raise InputError(f"{p}: the same output file twice")
+        seen.add(key)
+        check_new_output(p, overwrite)
+    temps: list[tuple[str, Path]] = []
+    try:
+        for p, content in zip(paths, files.values()):
+            temps.append((_write_temporary(p, content, ".tmp" + p.suffix), p))
+        for tmp, p in temps:
+            os.replace(tmp, p)
+        temps = []
+    finally:
+        for tmp, _ in temps:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+    return paths

@@ -19,6 +19,7 @@ from __future__ import annotations
 import csv
 import errno
 import os
+import re
 import shutil
 import tempfile
 from dataclasses import dataclass
@@ -115,7 +116,8 @@ def cell_numbers(name: str, col: str, texts: list[str], lines, *, nonnegative_un
             try:
                 values[i] = float(t)
             except (ValueError, OverflowError):
-                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
+                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number"
+                                 f"{_decimal_comma_hint(t)}") from None
     bad = ~np.isfinite(values) & ~empty
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
@@ -124,6 +126,31 @@ def cell_numbers(name: str, col: str, texts: list[str], lines, *, nonnegative_un
         i = int(np.flatnonzero(values < 0)[0])
         raise InputError(f"{name}: line {lines[i]}: column {col!r}: {values[i]:g} {nonnegative_unit} is negative")
     return values
+
+
+_DECIMAL_COMMA = re.compile(r"[+-]?[0-9]+,[0-9]+")
+#: Field separators other than the comma that a header may have been written with.
+_OTHER_SEPARATORS = ((";", "semicolons"), ("\t", "tabs"), ("|", "vertical bars"))
+
+
+def _decimal_comma_hint(text: str) -> str:
+    """`` (a decimal comma? ...)`` when ``text`` is a number written with a decimal comma."""
+    if _DECIMAL_COMMA.fullmatch(text.strip()):
+        return f" (a decimal comma? write numbers with a decimal point, e.g. {text.strip().replace(',', '.')})"
+    return ""
+
+
+def _separator_hint(cells: list[str]) -> str:
+    """A hint when a line's fields look split by something else than the comma: one field
+    holding semicolons or tabs, or more fields than the header because of decimal commas."""
+    if len(cells) == 1:
+        for sep, what in _OTHER_SEPARATORS:
+            if len([c for c in cells[0].split(sep) if c.strip()]) >= 2:
+                return f" (fields must be separated by commas; this line seems to use {what})"
+    pairs = zip(cells[:-1], cells[1:])
+    if any(re.fullmatch(r"[+-]?[0-9]+", a.strip()) and re.fullmatch(r"[0-9]+", b.strip()) for a, b in pairs):
+        return " (decimal commas? write numbers with a decimal point, e.g. -20.5, and separate fields by commas)"
+    return ""
 
 
 def _cells(line: str, name: str, no: int) -> list[str]:
@@ -145,7 +172,9 @@ def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") 
     :class:`InputError` line naming the file and the physical line: not UTF-8, malformed
     CSV, a header column without a name or named twice, a row with a different number of
     fields than the header, an empty file (``expected``, e.g. ``"time, ice_thickness"``,
-    is added to that message) and a file without ``rows_name`` after the header.
+    is added to that message) and a file without ``rows_name`` after the header.  A header
+    of one column holding semicolons or tabs, and rows with extra fields from decimal commas,
+    get a hint in their message.
     """
     name = str(path)
     text, raw = read_user_text(path, what)
@@ -164,6 +193,9 @@ def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") 
             continue
         cells = [c.strip() for c in _cells(line.rstrip("\r"), name, no)]
         if header is None:
+            hint = _separator_hint(cells) if len(cells) == 1 else ""
+            if hint:
+                raise InputError(f"{name}: line {no}: the header has one column {cells[0]!r}{hint}")
             for j, col in enumerate(cells):
                 if not col:
                     raise InputError(f"{name}: line {no}: column {j + 1} of the header has no name")
@@ -172,8 +204,9 @@ def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") 
             header, header_line = cells, no
             continue
         if len(cells) != len(header):
+            hint = _separator_hint(cells) if len(cells) > len(header) or len(cells) == 1 else ""
             raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
-                             f"(line {header_line}), found {len(cells)}")
+                             f"(line {header_line}), found {len(cells)}{hint}")
         lines.append(no)
         rows.append(cells)
     if header is None:

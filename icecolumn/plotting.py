@@ -61,7 +61,9 @@ FIELDS: tuple[tuple[str, str, str], ...] = (
     ("brine_salinity", "brine salinity", "magma"),
 )
 
-#: Legend text for the empirical growth laws a ``laws`` dataset may hold.
+#: Legend text for the growth laws a ``laws`` dataset may hold, used when its variable has no
+#: ``label`` attribute (a :func:`icecolumn.laws.laws_table` Dataset has one, the name its
+#: table shows, e.g. "Stefan with surface transfer").
 LAW_LABELS: dict[str, str] = {
     "stefan": "Stefan (1891)",
     "lebedev": "Lebedev (1938)",
@@ -253,7 +255,9 @@ def plot_thickness(
     """Ice thickness (top panel) and snow thickness (bottom panel) against time.
 
     ``laws``: Dataset/mapping with ``time`` and any of ``stefan``, ``lebedev``,
-    ``anderson``, ``zubov`` [m], drawn as thin dashed lines.  ``obs``:
+    ``anderson``, ``zubov`` [m], drawn as thin dashed lines, labelled as the laws table
+    names them (``label`` and ``base_temperature_degC`` attributes of
+    :func:`icecolumn.laws.laws_table`).  ``obs``:
     Dataset/mapping with ``time``, ``ice_thickness`` and optionally
     ``snow_thickness``, drawn as markers labelled "drill holes".
     """
@@ -288,7 +292,7 @@ def plot_thickness(
         for key, color in zip(LAW_LABELS, colors):
             if key in laws:
                 ax.plot(xl, np.asarray(laws[key], dtype=float), linestyle="--",
-                        linewidth=1.0, color=color, label=LAW_LABELS[key], gid=f"law:{key}")
+                        linewidth=1.0, color=color, label=_law_legend(laws, key), gid=f"law:{key}")
     if obs is not None:
         if "time" not in obs or "ice_thickness" not in obs:
             raise InputError("observations: need time and ice_thickness")
@@ -321,6 +325,18 @@ def plot_thickness(
     _set_run_xlim(ax, x)
     fig.suptitle(_title(ds, "Ice and snow thickness", title, depth_resolved=False))
     return fig
+
+
+def _law_legend(laws, key: str) -> str:
+    """Legend text of one law: the ``label`` attribute of its variable (the name the laws
+    table prints) and the base of its freezing degree days, else :data:`LAW_LABELS`."""
+    attrs = getattr(laws[key], "attrs", {}) or {}
+    label = str(attrs.get("label", LAW_LABELS[key]))
+    base = attrs.get("base_temperature_degC")
+    if base is None:
+        return label
+    b = float(base)
+    return f"{label}, base {b:g} \u00b0C" if round(b, 1) == b else f"{label}, base {b:.2f} \u00b0C"
 
 
 def _set_run_xlim(ax, x: np.ndarray) -> None:

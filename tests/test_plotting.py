@@ -349,3 +349,16 @@ def test_plots_refuse_a_dataset_without_their_variables(ds):
     broken = ds.drop_vars("brine_salinity")
     with pytest.raises(InputError, match="brine_salinity"):
         plotting.plot_sections(broken)
+
+
+def test_thickness_legend_names_the_laws_as_the_table_does(ds):
+    from icecolumn.laws import laws_table
+
+    t = ds["time"].values
+    table = laws_table(t, np.full(t.size, -20.0), surface_coefficient=10.0, freezing_point=-0.32)
+    fig = plotting.plot_thickness(ds, laws=table)
+    legend = [x.get_text() for x in fig.axes[0].get_legend().get_texts()]
+    assert "Stefan with surface transfer, base -0.32 \u00b0C" in legend
+    assert "Anderson (1961), base -1.8 \u00b0C" in legend and "Lebedev (1938), base 0 \u00b0C" in legend
+    plain = plotting.plot_thickness(ds, laws=laws_table(t, np.full(t.size, -20.0)))
+    assert "Stefan, surface = air, base -1.8 \u00b0C" in [x.get_text() for x in plain.axes[0].get_legend().get_texts()]

@@ -391,8 +391,12 @@ def record_summary(record: xr.Dataset, iface: xr.Dataset | None = None) -> list[
 # --------------------------------------------------------------------------- outputs
 
 
-def budget_dataset(record: xr.Dataset, iface: xr.Dataset, budget: xr.Dataset) -> xr.Dataset:
-    """One CF-1.8 Dataset: the record, the interfaces and the budget per window."""
+def budget_dataset(record: xr.Dataset, iface: xr.Dataset, budget: xr.Dataset, station=None) -> xr.Dataset:
+    """One CF-1.8 Dataset: the record, the interfaces and the budget per window.
+
+    ``station``: the configuration's :class:`~icecolumn.config.StationSection`, whose name and
+    position become global attributes (:meth:`~icecolumn.config.StationSection.attributes`).
+    """
     ds = xr.merge([record.drop_vars([v for v in INTERFACES if v in record]), iface, budget],
                   combine_attrs="drop_conflicts", compat="override")
     ds.attrs = {
@@ -407,6 +411,7 @@ def budget_dataset(record: xr.Dataset, iface: xr.Dataset, budget: xr.Dataset) ->
         "record_source_file": str(record.attrs.get("source_file", "")),
         "record_gaps": str(record.attrs.get("gaps", "")),
         **{k: v for k, v in budget.attrs.items()},
+        **(station.attributes() if station is not None else {}),
     }
     return ds
 

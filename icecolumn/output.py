@@ -282,6 +282,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         "solver_steps_accepted": int(raw.counters[:, 0].sum()),
         "solver_steps_rejected": int(raw.counters[:, 1].sum()),
         "solver_newton_iterations": int(raw.counters[:, 2].sum()),
+        **cfg0.station.attributes(),  # [station] name and position, when set
     }
     if not keep_member and nm == 1:
         ds = ds.isel(member=0, drop=True)

@@ -217,6 +217,41 @@ def _field_limits(values: np.ndarray) -> tuple[float, float]:
     return float(np.min(finite)), float(np.max(finite))
 
 
+#: Percentiles of the interior ice that bound the section colour scales.
+ROBUST_PERCENTILES = (2.0, 98.0)
+
+
+def _interior_fraction(ds: xr.Dataset) -> float:
+    """Largest liquid fraction of "interior" ice: the run's ``[output] load_bearing_liquid_fraction``
+    (the default when the file has no readable configuration)."""
+    from icecolumn.config import config_from_toml_text, default_config
+
+    try:
+        cfg = config_from_toml_text(str(ds.attrs.get("icecolumn_config", "")), _source(ds))
+    except InputError:
+        cfg = default_config()
+    return cfg.output.load_bearing_liquid_fraction
+
+
+def _robust_limits(values: np.ndarray, interior: np.ndarray) -> tuple[float, float, str]:
+    """Colour limits of a section: the :data:`ROBUST_PERCENTILES` of the interior cells (all
+    finite cells when there are none), and the colour bar's ``extend`` ("neither", "min",
+    "max" or "both") for the values beyond them."""
+    finite = np.isfinite(values)
+    use = finite & interior
+    if not use.any():
+        use = finite
+    if not use.any():
+        return 0.0, 1.0, "neither"
+    lo, hi = (float(v) for v in np.percentile(values[use], ROBUST_PERCENTILES))
+    if not hi > lo:
+        lo, hi = float(values[use].min()), float(values[use].max())
+    below = bool((values[finite] < lo).any())
+    above = bool((values[finite] > hi).any())
+    extend = {(False, False): "neither", (True, False): "min", (False, True): "max", (True, True): "both"}
+    return lo, hi, extend[(below, above)]
+
+
 def _moving_mesh(
     t_edges: np.ndarray, bounds: np.ndarray, values: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray, np.ma.MaskedArray]:
@@ -355,9 +390,13 @@ def plot_sections(
     """Depth-time sections of temperature, bulk salinity, liquid fraction, brine salinity.
 
     Each output time is a column spanning the midpoints to its neighbours and
-    its own layer bounds (``depth_bounds``).  Colour limits are the range of
-    the drawn field.  ``thermistor`` (time, depth, temperature) and ``core``
-    (time, depth, salinity) points are overlaid with the same colour scale.
+    its own layer bounds (``depth_bounds``).  Snow on the ice (``snow_thickness``) is a
+    hatched band above the ice surface (negative depths).  Colour limits are the
+    :data:`ROBUST_PERCENTILES` of the interior ice (layers with a liquid fraction up to the
+    run's ``[output] load_bearing_liquid_fraction``), so the porous bottom and slush do not
+    set the scale; the colour bars have arrows where values lie beyond.  ``thermistor``
+    (time, depth, temperature) and ``core`` (time, depth, salinity) points are overlaid with
+    the same colour scale.
     """
     check_output_dataset(ds, _source(ds), SECTION_VARIABLES)
     d = _member0(ds)
@@ -373,38 +412,63 @@ def plot_sections(
     if core is not None:
         overlay["bulk_salinity"] = ("ice core", _points(core, "salinity", "ice core"), "s")
 
+    snow = None
+    if "snow_thickness" in d.variables:
+        snow = np.asarray(d["snow_thickness"].values, dtype=float)
+        if not (np.isfinite(snow) & (snow > 0)).any():
+            snow = None
+    phi = d["liquid_fraction"].transpose("time", "layer").values.astype(float)
+    interior_limit = _interior_fraction(ds)
+    interior = np.isfinite(phi) & (phi <= interior_limit)
+
     fig = Figure(figsize=(9.0, 10.0), layout="constrained")
     axes = fig.subplots(len(FIELDS), 1, sharex=True, sharey=True)
     depth_units = _units(d["depth_bounds"], "m")
+    x_steps = np.repeat(edges, 2)[1:-1]
     for ax, (name, short, cmap) in zip(axes, FIELDS):
         da = d[name].transpose("time", "layer")
         vals = da.values.astype(float)
-        vmin, vmax = _field_limits(vals)
+        vmin, vmax, extend = _robust_limits(vals, interior)
         X, Y, C = _moving_mesh(edges, bounds, vals)
         mesh = ax.pcolormesh(X, Y, C, cmap=cmap, vmin=vmin, vmax=vmax, shading="flat",
                              rasterized=True, gid=f"section:{name}")
         if vmin == vmax:  # constant field: keep the limits, widen only the drawing norm
             mesh.norm.vmin, mesh.norm.vmax = vmin - 0.5, vmax + 0.5
         # the base follows the column edges, so it sits exactly on the mesh bottom
-        ax.plot(np.repeat(edges, 2)[1:-1], np.repeat(base, 2), color="black", linewidth=1.2,
+        ax.plot(x_steps, np.repeat(base, 2), color="black", linewidth=1.2,
                 label="ice base", gid="ice_base")
+        handles = []
+        if snow is not None:  # snow on the ice: a band above the ice surface (depth 0)
+            band = ax.fill_between(x_steps, -np.repeat(np.nan_to_num(snow), 2), 0.0,
+                                   facecolor="#e8eef5", edgecolor="0.45", linewidth=0.6, hatch="..",
+                                   label="snow", gid="snow")
+            if ax is axes[0]:
+                handles.append(band)
         if name in overlay:
             label, (px, pd, pv), marker = overlay[name]
-            ax.scatter(px, pd, c=pv, cmap=cmap, norm=mesh.norm, marker=marker, s=28,
-                       edgecolors="black", linewidths=0.6, label=label, zorder=3,
-                       gid=f"points:{label}")
-            ax.legend(loc="lower left", fontsize="small", framealpha=0.9)
-        cbar = fig.colorbar(mesh, ax=ax, pad=0.01, aspect=12)
+            handles.append(ax.scatter(px, pd, c=pv, cmap=cmap, norm=mesh.norm, marker=marker, s=28,
+                                      edgecolors="black", linewidths=0.6, label=label, zorder=3,
+                                      gid=f"points:{label}"))
+        if handles:
+            ax.legend(handles=handles, loc="lower left", fontsize="small", framealpha=0.9)
+        cbar = fig.colorbar(mesh, ax=ax, pad=0.01, aspect=12, extend=extend)
         cbar.set_label(_label(short, _units(da, "")))
         ax.set_title(str(da.attrs.get("long_name", short)), loc="left", fontsize="medium")
         ax.set_ylabel(_label("depth below ice surface", depth_units))
         _date_axis(ax)
     finite_base = base[np.isfinite(base)]
     ymax = float(finite_base.max()) * 1.05 if finite_base.size and finite_base.max() > 0 else 1.0
-    axes[0].set_ylim(ymax, 0.0)  # shared y: depth increases downward on every panel
+    top = -1.1 * float(np.nanmax(snow)) if snow is not None else 0.0
+    axes[0].set_ylim(ymax, top)  # shared y: depth increases downward on every panel, snow above 0
+    if snow is not None:
+        for ax in axes:
+            ax.axhline(0.0, color="0.45", linewidth=0.6)
     axes[0].set_xlim(edges[0], edges[-1])
     axes[-1].set_xlabel("time")
     fig.suptitle(_title(ds, "Ice column sections", title, depth_resolved=True))
+    fig.supxlabel(f"colour scales: {ROBUST_PERCENTILES[0]:g}\u2013{ROBUST_PERCENTILES[1]:g} % of the interior ice "
+                  f"(liquid fraction \u2264 {interior_limit:g}: the porous bottom and slush left out); arrows: "
+                  "values beyond", fontsize="x-small", color="0.3")
     return fig
 
 

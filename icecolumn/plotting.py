@@ -210,13 +210,6 @@ def _points(obj: Any, value_name: str, what: str) -> tuple[np.ndarray, np.ndarra
     return _datenum(t.ravel()), d.ravel(), v.ravel()
 
 
-def _field_limits(values: np.ndarray) -> tuple[float, float]:
-    finite = values[np.isfinite(values)]
-    if finite.size == 0:
-        return 0.0, 1.0
-    return float(np.min(finite)), float(np.max(finite))
-
-
 #: Percentiles of the interior ice that bound the section colour scales.
 ROBUST_PERCENTILES = (2.0, 98.0)
 

@@ -70,8 +70,10 @@ def run_command(
                                                          help="Continue from the last state of a previous "
                                                               "output (same configuration).")] = None,
     repeat: Annotated[int, typer.Option("--repeat", min=1, metavar="N",
-                                        help="Run the forcing N times end to end (multi-year runs and "
-                                             "spin-up; the period is the file's span plus one time step).")] = 1,
+                                        help="Run the forcing N times (multi-year runs and spin-up): a file "
+                                             "of whole calendar years repeats on the calendar (29 February of "
+                                             "a leap year is a copy of 28 February; one the file has is left "
+                                             "out of common years); another file end to end.")] = 1,
 ) -> None:
     """Run the column model on a forcing file and write a NetCDF file."""
     from .forcing import repeat_forcing

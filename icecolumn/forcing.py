@@ -845,11 +845,46 @@ def _times_from_any(time: Any, name: str, label: Callable[[int], str]) -> np.nda
     return times
 
 
-def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
-    """The forcing repeated ``times`` times end to end (for spin-up and multi-year runs).
+#: Days of a mean Gregorian year (common practice, no source).
+_DAYS_PER_YEAR = 365.2425
 
-    The period is the forcing's span plus one time step (its last step), so an hourly year
-    from 15 Sep 00:00 to 14 Sep 23:00 repeats every 365 days exactly.
+
+def _is_leap(year: np.ndarray) -> np.ndarray:
+    return (year % 4 == 0) & ((year % 100 != 0) | (year % 400 == 0))
+
+
+def _shift_calendar_years(t: np.ndarray, years: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Times ``t`` (datetime64[ns]) moved by whole calendar ``years`` (same month, day and time).
+
+    Returns the shifted times of the rows kept, the indices of those rows, and the indices of
+    the rows to copy one day later (source 28 February moved into a leap year the source lacks
+    a 29 February for).  A source 29 February that lands in a common year is left out.
+    """
+    month = t.astype("datetime64[M]")
+    into_month = t - month.astype("datetime64[ns]")
+    target = month + np.timedelta64(12 * years, "M")
+    shifted = target.astype("datetime64[ns]") + into_month
+    keep = np.flatnonzero(shifted.astype("datetime64[M]") == target)  # not spilled into March
+    year = target.astype("datetime64[Y]").astype(np.int64) + 1970
+    source_year = month.astype("datetime64[Y]").astype(np.int64) + 1970
+    day = (into_month // np.timedelta64(1, "D")).astype(np.int64) + 1
+    is_feb = (target.astype(np.int64) % 12) == 1
+    leap_copy = np.flatnonzero(is_feb & (day == 28) & _is_leap(year) & ~_is_leap(source_year))
+    return shifted[keep], keep, leap_copy
+
+
+def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
+    """The forcing repeated ``times`` times (for spin-up and multi-year runs), on the calendar.
+
+    A forcing that covers whole calendar years (its last time plus one time step is its
+    first time some years later, e.g. hourly from 15 Sep 00:00 to 14 Sep 23:00) is repeated
+    on the calendar: each repetition is its dates moved by that many whole calendar years,
+    so 1 January stays 1 January and the seasons stay in place.  29 February: a repetition
+    in a leap year that the forcing's year has no 29 February for gets one, a copy of 28
+    February (24 h more of that day's weather); a 29 February of the forcing that falls in a
+    common year is left out.  Any other forcing (a winter season, a few days) is repeated
+    end to end with the period of its span plus one time step, as before, with a
+    :class:`ForcingWarning` that its dates drift from the calendar.
 
     Parameters
     ----------
@@ -861,20 +896,55 @@ def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
     Returns
     -------
     xarray.Dataset
-        Same variables; ``attrs["repeated"]`` records the count.
+        Same variables; ``attrs["repeated"]`` records the count and ``attrs["repeat_mode"]``
+        how the copies were placed (and what happened to 29 February).
     """
     if int(times) < 1:
         raise InputError(f"repeat_forcing: times must be at least 1, got {times}")
     t = forcing["time"].values.astype("datetime64[ns]")
     if t.size < 2:
         raise InputError("repeat_forcing: the forcing needs at least two times")
-    period = t[-1] - t[0] + (t[-1] - t[-2])
-    copies = []
-    for i in range(int(times)):
-        part = forcing.copy()
-        part = part.assign_coords(time=t + i * period)
-        copies.append(part)
+    step = t[-1] - t[-2]
+    period = t[-1] - t[0] + step
+    years = int(round(period / np.timedelta64(1, "D") / _DAYS_PER_YEAR))
+    median_step = np.median(np.diff(t.astype(np.int64)))
+    calendar = False
+    if years >= 1:
+        next_start = _shift_calendar_years(t[:1], years)[0]
+        gap = (next_start[0] - t[-1]).astype(np.int64) if next_start.size else -1
+        calendar = 0 < gap <= GAP_STEP_FACTOR * median_step
+    copies = [forcing]
+    leap_added = dropped = 0
+    if calendar:
+        for i in range(1, int(times)):
+            shifted, keep, leap_copy = _shift_calendar_years(t, i * years)
+            part = forcing.isel(time=keep).assign_coords(time=shifted)
+            dropped += t.size - keep.size
+            if leap_copy.size:
+                extra = forcing.isel(time=leap_copy)
+                extra = extra.assign_coords(time=_shift_calendar_years(t[leap_copy], i * years)[0]
+                                            + np.timedelta64(1, "D"))
+                part = xr.concat([part, extra], dim="time").sortby("time")
+                leap_added += leap_copy.size
+            copies.append(part)
+        mode = (f"calendar: each repetition {years} calendar year{'s' if years != 1 else ''} after the one before, "
+                "on the same dates; a leap year the forcing has no 29 February for gets a copy of 28 February, "
+                "and a 29 February of the forcing in a common year is left out")
+        if leap_added or dropped:
+            mode += f" ({leap_added} rows added as 29 February, {dropped} rows of 29 February left out)"
+    else:
+        for i in range(1, int(times)):
+            copies.append(forcing.assign_coords(time=t + i * period))
+        days = period / np.timedelta64(1, "D")
+        mode = f"end to end: period {days:g} days (the forcing's span plus one time step)"
+        if int(times) > 1:
+            warnings.warn(
+                f"{forcing.attrs.get('source_file', 'forcing')}: --repeat: the forcing ({format_time(t[0])} to "
+                f"{format_time(t[-1])}) does not cover whole calendar years, so its {int(times)} repetitions follow "
+                f"end to end every {days:g} days and their dates drift from the calendar", ForcingWarning,
+                stacklevel=2)
     out = xr.concat(copies, dim="time") if len(copies) > 1 else copies[0]
     out.attrs = dict(forcing.attrs)
     out.attrs["repeated"] = int(times)
+    out.attrs["repeat_mode"] = mode
     return out

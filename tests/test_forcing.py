@@ -677,3 +677,60 @@ def test_fahrenheit_out_of_range_gets_a_hint(tmp_path):
 ])
 def test_separator_and_decimal_comma_hints(tmp_path, text, fragment):
     assert fragment in error_of(write(tmp_path, text))
+
+
+# ---------------------------------------------------------------- repeating on the calendar
+
+
+def _hourly_year(start: str, days: int):
+    t = np.datetime64(start, "ns") + np.arange(days * 24) * np.timedelta64(1, "h")
+    doy = (t - t[0]) / np.timedelta64(1, "D")
+    return forcing_from_arrays(t, -10.0 - 10.0 * np.sin(2 * np.pi * doy / days) + 0.01 * (np.arange(t.size) % 24))
+
+
+def test_repeat_keeps_the_calendar_and_adds_a_leap_day():
+    from icecolumn.forcing import repeat_forcing
+
+    f = _hourly_year("2026-09-15T00:00", 365)  # 15 Sep 2026 .. 14 Sep 2027: no 29 February
+    r = repeat_forcing(f, 3)
+    t = r["time"].values
+    assert t[0] == np.datetime64("2026-09-15T00:00") and t[-1] == np.datetime64("2029-09-14T23:00")
+    assert np.all(np.diff(t) == np.timedelta64(1, "h"))  # no gap, no overlap
+    a = r["air_temperature"]
+    for year in (2028, 2029):  # every repetition on the same calendar dates
+        for when in ("01-01T00:00", "03-01T05:00", "09-14T23:00", "02-28T12:00"):
+            assert float(a.sel(time=f"{year}-{when}")) == float(a.sel(time=f"2027-{when}"))
+    # 2028 is a leap year (Gregorian rule, common practice, no source): its 29 February is a copy of 28 February
+    leap = a.sel(time=slice("2028-02-29T00:00", "2028-02-29T23:00")).values
+    np.testing.assert_array_equal(leap, a.sel(time=slice("2027-02-28T00:00", "2027-02-28T23:00")).values)
+    assert t.size == 3 * 365 * 24 + 24
+    assert r.attrs["repeat_mode"].startswith("calendar: each repetition 1 calendar year after the one before")
+    assert "24 rows added as 29 February" in r.attrs["repeat_mode"]
+
+
+def test_repeat_leaves_out_29_february_in_a_common_year():
+    from icecolumn.forcing import repeat_forcing
+
+    f = _hourly_year("2027-09-15T00:00", 366)  # 15 Sep 2027 .. 14 Sep 2028 holds 29 Feb 2028
+    r = repeat_forcing(f, 2)
+    t = r["time"].values
+    assert t[-1] == np.datetime64("2029-09-14T23:00") and np.all(np.diff(t) == np.timedelta64(1, "h"))
+    in_feb_2029 = t.astype("datetime64[M]") == np.datetime64("2029-02", "M")
+    assert t[in_feb_2029][-1] == np.datetime64("2029-02-28T23:00")  # 2029 has no 29 February
+    assert float(r["air_temperature"].sel(time="2029-03-01T00:00")) == float(
+        f["air_temperature"].sel(time="2028-03-01T00:00"))
+    assert "24 rows of 29 February left out" in r.attrs["repeat_mode"]
+
+
+def test_repeat_of_a_part_year_is_end_to_end_with_a_warning():
+    from icecolumn.forcing import repeat_forcing
+
+    t = np.datetime64("2026-11-01T00:00", "ns") + np.arange(48) * np.timedelta64(1, "h")
+    f = forcing_from_arrays(t, np.full(t.size, -15.0))
+    with pytest.warns(ForcingWarning, match="does not cover whole calendar years"):
+        r = repeat_forcing(f, 3)
+    assert r["time"].values[-1] - r["time"].values[0] == np.timedelta64(3 * 48 - 1, "h")
+    assert r.attrs["repeat_mode"].startswith("end to end: period 2 days")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ForcingWarning)
+        assert repeat_forcing(f, 1).attrs["repeated"] == 1

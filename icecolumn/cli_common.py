@@ -57,8 +57,8 @@ def column_map(cfg: Config, pairs: list[str] | None) -> dict[str, str]:
 
 
 #: The line printed on stderr before a run that compiles the numerical kernel first.
-COMPILE_NOTICE = (f"{PROG}: compiling the numerical kernel (first use, about 40 s; later runs start in about a "
-                  "second)...")
+COMPILE_NOTICE = (f"{PROG}: compiling the numerical kernel (first use, up to about a minute; later runs start in "
+                  "about a second)...")
 
 
 def compile_notice(*batch: bool) -> bool:

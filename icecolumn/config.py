@@ -540,15 +540,15 @@ class ForcingSection(_Section):
 
 @dataclass(frozen=True)
 class StationSection(_Section):
-    """``[station]``: the station the run is for, written as global attributes of every NetCDF
-    file icecolumn writes (:meth:`attributes`); every key is optional."""
+    """``[station]``: the station the run is for, written as global attributes of the NetCDF
+    outputs (run, ensemble, forecast, buoy budget; :meth:`attributes`); every key is optional."""
 
     section: ClassVar[str] = "station"
-    name: str | None = setting(None, "", "station name, written to every output file (attribute station_name)",
+    name: str | None = setting(None, "", "station name, written to the NetCDF outputs (attribute station_name)",
                                "text")
-    latitude: float | None = setting(None, "degrees_north", "station latitude, written to every output file "
+    latitude: float | None = setting(None, "degrees_north", "station latitude, written to the NetCDF outputs "
                                      "(attributes geospatial_lat_min and _max)", "float", -90.0, 90.0)
-    longitude: float | None = setting(None, "degrees_east", "station longitude, written to every output file "
+    longitude: float | None = setting(None, "degrees_east", "station longitude, written to the NetCDF outputs "
                                       "(attributes geospatial_lon_min and _max)", "float", -180.0, 360.0)
 
     def attributes(self) -> dict[str, str | float]:

@@ -257,3 +257,29 @@ def test_compile_notice_not_printed_when_the_run_fails_first(tmp_path, monkeypat
     (tmp_path / "bad.csv").write_text("time,air_temperature\n2027-01-01T00:00Z,cold\n")
     result = invoke("run", tmp_path / "bad.csv", "-o", tmp_path / "r.nc")
     one_line_error(result, "bad.csv", "cold")
+
+
+@pytest.mark.parametrize("batch_size, variables, kernels", [(1, False, {False}), (4, False, {True}),
+                                                             (4, True, {True, False})])
+def test_ensemble_notice_asks_for_the_kernels_it_calls(tmp_path, monkeypatch, batch_size, variables, kernels):
+    asked = set()
+
+    def needs_compile(batch=False):  # nothing to compile: every kernel the run calls is asked
+        asked.add(batch)
+        return False
+
+    monkeypatch.setattr(kernel, "needs_compile", needs_compile)
+    write_forcing(tmp_path / "f.csv", days=2)
+    spec = 'forcing = "f.csv"\nset = {"output.interval" = "1D", "grid.layers" = 6}\n' \
+           '[[member]]\nname = "a"\n[[member]]\nname = "b"\nset = {"ocean.heat_flux" = 5.0}\n'
+    if variables:
+        spec += '[output]\nvariables = ["ice_thickness"]\n'
+    (tmp_path / "spec.toml").write_text(spec)
+    result = invoke("ensemble", tmp_path / "spec.toml", "-o", tmp_path / "e.nc", "--batch-size", batch_size)
+    assert result.exit_code == 0, result.output
+    assert asked == kernels and COMPILE_NOTICE not in result.stderr
+    monkeypatch.setattr(kernel, "needs_compile", lambda batch=False: batch in kernels)
+    again = invoke("ensemble", tmp_path / "spec.toml", "-o", tmp_path / "e.nc", "--batch-size", batch_size,
+                   "--overwrite")
+    assert again.exit_code == 0, again.output
+    assert again.stderr.count(COMPILE_NOTICE) == 1

@@ -7,10 +7,12 @@ Budget relation (per unit area, over any period)::
 
     salt entrained by new ice = salt released to the ocean + change of salt kept in the ice
 
-``salt_entrained`` is the salt in the sea water the ice takes up at its base,
-``salt_released`` the net salt that crossed the base into the ocean (gravity drainage,
-brine out minus sea water in, plus basal melt), and ``salt_content`` the salt in the
-column.  The model closes this relation to round-off, so the residual reported here is a
+``salt_entrained`` is the salt in the sea water the ice takes up (at its base and in
+flooded snow), ``salt_released`` the net salt that left the ice for the ocean, and
+``salt_content`` the salt in the column.  The release is split into its four parts, which
+add up to it::
+
+    released = drainage (brine out minus sea water in) + basal melt + surface melt + flushing  The model closes this relation to round-off, so the residual reported here is a
 check of the output, not a model error estimate.
 
 Periods are calendar periods in UTC (``month``, ``week`` starting Monday 00:00, ``day``).
@@ -34,6 +36,13 @@ PERIODS = {"month": "first day of the month, 00:00", "week": "Monday 00:00", "da
 
 _CUMULATIVE = ("salt_entrained", "salt_released", "salt_released_drainage", "salt_released_melt",
                "salt_content")
+#: The parts of ``salt_released`` (they add up to it), with their budget names and meanings.
+RELEASE_PARTS = (
+    ("salt_released_drainage", "drainage", "net salt released to the ocean by gravity drainage"),
+    ("salt_released_melt", "basal melt", "salt released to the ocean by basal melt"),
+    ("salt_released_surface_melt", "surface melt", "salt carried to the ocean by surface melt water"),
+    ("salt_released_flushing", "flushing", "salt flushed out of the ice base by melt water"),
+)
 
 
 def _check(ds: xr.Dataset) -> None:
@@ -85,10 +94,12 @@ def brine_budget(ds: xr.Dataset, period: str = "month") -> xr.Dataset:
     -------
     xarray.Dataset
         Dimension ``period`` with coordinates ``period_start`` and ``period_end`` (the
-        bounding output times [UTC]) and variables ``salt_entrained``,
-        ``salt_released_drainage``, ``salt_released_melt``, ``salt_released``,
-        ``salt_kept_change`` and ``budget_residual`` [kg m-2], and ``salt_flux_mean``
-        [kg m-2 s-1].
+        bounding output times [UTC]) and variables ``salt_entrained``, the parts of the
+        release ``salt_released_drainage``, ``salt_released_melt``,
+        ``salt_released_surface_melt`` and ``salt_released_flushing`` (0 when a file
+        has no such variable, with a note in ``attrs["comment"]``), ``salt_released``
+        (their sum), ``salt_kept_change`` and ``budget_residual`` [kg m-2], and
+        ``salt_flux_mean`` [kg m-2 s-1].
     """
     _check(ds)
     times = ds["time"].values.astype("datetime64[ns]")
@@ -102,36 +113,39 @@ def brine_budget(ds: xr.Dataset, period: str = "month") -> xr.Dataset:
     ent = diff("salt_entrained")
     rel = diff("salt_released")
     kept = diff("salt_content")
-    out = {
-        "salt_entrained": (ent, "kg m-2", "salt in sea water taken up by the ice during the period"),
-        "salt_released_drainage": (diff("salt_released_drainage"), "kg m-2",
-                                   "net salt released to the ocean by gravity drainage during the period"),
-        "salt_released_melt": (diff("salt_released_melt"), "kg m-2",
-                               "salt released to the ocean by basal melt during the period"),
-        "salt_released": (rel, "kg m-2", "net salt released to the ocean during the period (all components)"),
+    missing = [name for name, _, _ in RELEASE_PARTS if name not in ds]
+    out = {"salt_entrained": (ent, "kg m-2", "salt in sea water taken up by the ice during the period")}
+    for name, _, meaning in RELEASE_PARTS:
+        out[name] = (diff(name) if name in ds else np.zeros(lo.size), "kg m-2", f"{meaning} during the period")
+    out.update({
+        "salt_released": (rel, "kg m-2", "net salt released to the ocean during the period (the sum of drainage, "
+                                         "basal melt, surface melt and flushing)"),
         "salt_kept_change": (kept, "kg m-2", "change of the salt kept in the ice during the period"),
         "salt_flux_mean": (rel / seconds, "kg m-2 s-1",
                            "time-mean net salt flux from the ice base into the ocean over the period"),
         "budget_residual": (ent - rel - kept, "kg m-2",
                             "salt entrained minus salt released minus change of salt kept (should be ~0)"),
-    }
+    })
     data = {k: ("period", v, {"units": u, "long_name": ln}) for k, (v, u, ln) in out.items()}
     data["period_seconds"] = ("period", seconds, {"units": "s", "long_name": "length of the period covered"})
     bds = xr.Dataset(
         data,
         coords={"period_start": ("period", times[lo], {"long_name": "first output time of the period (UTC)"}),
                 "period_end": ("period", times[hi], {"long_name": "last output time of the period (UTC)"})})
-    bds.attrs = {"period": period,
-                 "comment": "differences of the run's cumulative variables between the output times "
-                            "bounding each calendar period (UTC); first and last periods may be partial"}
+    comment = ("differences of the run's cumulative variables between the output times bounding each calendar "
+               "period (UTC); first and last periods may be partial")
+    if missing:
+        comment += f"; the file has no {', '.join(missing)} (taken as 0)"
+    bds.attrs = {"period": period, "comment": comment}
     return bds
 
 
 def format_brine_budget(bds: xr.Dataset) -> str:
-    """Plain-text table of a :func:`brine_budget` Dataset, with a total row."""
-    cols = [("salt_entrained", "entrained"), ("salt_released_drainage", "drainage"),
-            ("salt_released_melt", "melt"), ("salt_released", "released"),
-            ("salt_kept_change", "kept chg"), ("budget_residual", "residual")]
+    """Plain-text table of a :func:`brine_budget` Dataset, with a total row: entrained, the four
+    parts of the release (drainage, basal melt, surface melt, flushing) that add up to
+    "released", the change of salt kept and the residual."""
+    cols = [("salt_entrained", "entrained"), *((name, label) for name, label, _ in RELEASE_PARTS),
+            ("salt_released", "released"), ("salt_kept_change", "kept chg"), ("budget_residual", "residual")]
     columns = [("period start", "(UTC)"), ("period end", "(UTC)"), *((lab, "kg m-2") for _, lab in cols),
                ("mean flux", "kg m-2 s-1")]
     rows = []

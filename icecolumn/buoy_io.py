@@ -51,9 +51,7 @@ Writers
 from __future__ import annotations
 
 import math
-import os
 import re
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -62,7 +60,7 @@ import xarray as xr
 from ._version import __version__
 from .buoy import CAUTION_FLUX, WINDOW_FLAGS, SalinityProfile, position_at, record_mean
 from .errors import InputError
-from .textfile import read_csv, read_user_text
+from .textfile import read_csv, read_user_text, write_files_atomically
 from .timeutil import format_time, parse_times
 
 __all__ = ["read_buoy", "read_buoy_csv", "read_buoy_netcdf", "record_summary", "salinity_from_core",
@@ -393,8 +391,12 @@ def record_summary(record: xr.Dataset, iface: xr.Dataset | None = None) -> list[
 # --------------------------------------------------------------------------- outputs
 
 
-def budget_dataset(record: xr.Dataset, iface: xr.Dataset, budget: xr.Dataset) -> xr.Dataset:
-    """One CF-1.8 Dataset: the record, the interfaces and the budget per window."""
+def budget_dataset(record: xr.Dataset, iface: xr.Dataset, budget: xr.Dataset, station=None) -> xr.Dataset:
+    """One CF-1.8 Dataset: the record, the interfaces and the budget per window.
+
+    ``station``: the configuration's :class:`~icecolumn.config.StationSection`, whose name and
+    position become global attributes (:meth:`~icecolumn.config.StationSection.attributes`).
+    """
     ds = xr.merge([record.drop_vars([v for v in INTERFACES if v in record]), iface, budget],
                   combine_attrs="drop_conflicts", compat="override")
     ds.attrs = {
@@ -409,6 +411,7 @@ def budget_dataset(record: xr.Dataset, iface: xr.Dataset, budget: xr.Dataset) ->
         "record_source_file": str(record.attrs.get("source_file", "")),
         "record_gaps": str(record.attrs.get("gaps", "")),
         **{k: v for k, v in budget.attrs.items()},
+        **(station.attributes() if station is not None else {}),
     }
     return ds
 
@@ -550,46 +553,14 @@ def format_budget(budget: xr.Dataset) -> str:
 
 
 def write_outputs(files: dict[Path, object], overwrite: bool = False) -> list[Path]:
-    """Write several files all-or-nothing.
+    """Write several files all-or-nothing (:func:`icecolumn.textfile.write_files_atomically`).
 
     ``files`` maps each path to its content: ``str`` (UTF-8 text), or a callable
     ``write(temporary_path)``.  Every path is checked first (an existing file without
     ``overwrite``, a missing folder, twice the same path is an :class:`InputError`);
     then each is written to a temporary file beside it, and only when all succeeded
     are they renamed into place.  On any failure the temporary files are removed and
-    no output exists that did not exist before.
+    no output exists that did not exist before.  The files get the user's usual
+    permissions (0o666 less the umask); write errors name the output, not a temporary file.
     """
-    paths = [Path(p) for p in files]
-    seen = set()
-    for p in paths:
-        key = os.path.abspath(p)
-        if key in seen:
-            raise InputError(f"{p}: the same output file twice")
-        seen.add(key)
-        if p.exists() and not overwrite:
-            raise InputError(f"{p}: file exists; use --overwrite to replace it")
-        folder = p.parent if str(p.parent) else Path(".")
-        if not folder.is_dir():
-            raise InputError(f"{p}: folder {folder} does not exist")
-    temps: list[tuple[str, Path]] = []
-    umask = os.umask(0)
-    os.umask(umask)
-    try:
-        for p, content in zip(paths, files.values()):
-            folder = p.parent if str(p.parent) else Path(".")
-            fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp" + p.suffix, dir=folder)
-            os.close(fd)
-            temps.append((tmp, p))
-            if isinstance(content, str):
-                Path(tmp).write_text(content, encoding="utf-8")
-            else:
-                content(tmp)
-            os.chmod(tmp, 0o666 & ~umask)  # as a file created normally (mkstemp makes it private)
-        for tmp, p in temps:
-            os.replace(tmp, p)
-        temps = []
-    finally:
-        for tmp, _ in temps:
-            if os.path.exists(tmp):
-                os.unlink(tmp)
-    return paths
+    return write_files_atomically(files, overwrite=overwrite)

@@ -18,6 +18,7 @@ from typer.core import TyperGroup
 
 from . import cli_buoy, cli_calibrate, cli_check, cli_demo, cli_ensemble, cli_forecast, cli_laws, cli_plot, cli_run
 from ._version import __version__
+from .cli_common import warnings_as_lines
 from .errors import IceColumnError
 
 PROG = "icecolumn"
@@ -42,8 +43,9 @@ class _Group(TyperGroup):
         argv = list(sys.argv[1:] if args is None else args)
         debug = "--debug" in argv[: argv.index("--") if "--" in argv else len(argv)]
         try:
-            rv = super().main(args=argv, prog_name=prog_name or PROG, complete_var=complete_var,
-                              standalone_mode=False, **extra)
+            with warnings_as_lines(debug):  # a warning is one line 'icecolumn: warning: ...'
+                rv = super().main(args=argv, prog_name=prog_name or PROG, complete_var=complete_var,
+                                  standalone_mode=False, **extra)
             code = rv if isinstance(rv, int) else 0
         except typer.Exit as exc:
             code = exc.exit_code

@@ -55,7 +55,7 @@ def buoy_command(
                                                        "outside the windows with an estimate [default: [ocean] "
                                                        "heat_flux].")] = None,
     config: Annotated[Optional[Path], typer.Option("-c", "--config", help="Configuration TOML ([ocean] salinity "
-                                                   "and heat_flux, [properties], [forcing] columns).")] = None,
+                                                   "and heat_flux, [properties], [forcing] columns, [station]).")] = None,
     sensor_accuracy: Annotated[float, typer.Option("--sensor-accuracy", metavar="K", help="Bound of each sensor's "
                                                    "offset.")] = 0.1,
     position_uncertainty: Annotated[Optional[float], typer.Option("--position-uncertainty", metavar="M",
@@ -108,7 +108,7 @@ def buoy_command(
                if forcing is not None else None)
     iface = buoy.interfaces(rec, settings, detect=detect)
     budget = buoy.heat_budget(rec, iface, sal, settings)
-    ds = buoy_io.budget_dataset(rec, iface, budget)
+    ds = buoy_io.budget_dataset(rec, iface, budget, station=cfg.station)
     table = buoy_io.format_budget(budget)
     obs_text, n_obs = buoy_io.observations_csv_text(iface, every, str(record))
     fig = plot_buoy(ds)

@@ -24,7 +24,7 @@ def demo_command(
 ) -> None:
     """Run the bundled sample winter (default configuration), with the growth-law table and figures."""
     cfg = model_config(None, assignments)
-    with progress_bar() as bar:
+    with progress_bar(batch=False) as bar:  # one column: the serial kernel
         demo = run_demo(outdir, overwrite=overwrite, config=cfg, progress=bar, forecast=forecast)
     typer.echo(format_run_summary(run_summary(demo.run), demo.files[0]))
     echo_files("files written:", demo.files)

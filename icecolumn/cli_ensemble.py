@@ -7,7 +7,7 @@ from typing import Annotated, Optional
 import numpy as np
 import typer
 
-from .cli_common import ColumnOpt, OverwriteOpt, progress_bar
+from .cli_common import ColumnOpt, OverwriteOpt, compile_notice, progress_bar
 from .config import parse_assignments, parse_column_map
 from .output import CAUTION
 from .summary import EnsembleSummary, ensemble_summary
@@ -59,14 +59,18 @@ def ensemble_command(
     batch_size: Annotated[int, typer.Option("--batch-size", min=1, help="Members per batch.")] = 256,
 ) -> None:
     """Run an ensemble of columns and write one NetCDF file with a member dimension."""
-    from .ensemble import load_spec
+    from .ensemble import load_spec, plan_batches
     from .output_io import open_output
 
     out = output_path(output, f"{spec.stem}.nc")
     check_new_output(out, overwrite)
     ens = load_spec(spec, overrides=parse_assignments(assignments),
                     column_map=parse_column_map(",".join(columns or []), "--column"))
-    with progress_bar() as bar:
+    # the kernels the run calls: threaded for batches of several columns, serial for a batch of
+    # one and for the short run that lists the variables of [output] variables
+    kernels = {len(b) > 1 for b in plan_batches(ens.members, batch_size)} | ({False} if ens.variables else set())
+    compile_notice(*kernels)
+    with progress_bar(batch=None) as bar:
         ens.run_to_file(out, overwrite=overwrite, batch_size=batch_size, workers=workers,
                         scheduler=scheduler, use_dask=use_dask, progress=bar)
     with open_output(out, load=False) as ds:

@@ -9,7 +9,7 @@ import typer
 
 import icecolumn
 
-from .cli_common import ColumnOpt, ObsOpt, OverwriteOpt, column_map, model_config
+from .cli_common import ColumnOpt, ObsOpt, OverwriteOpt, SetOpt, column_map, model_config
 from .errors import InputError
 from .forcing import is_netcdf
 from .laws import (RUN_VARIABLES, air_from_run, fit_table_to_observations, format_laws_table, laws_for_run,
@@ -44,11 +44,15 @@ def laws_command(
     csv_path: Annotated[Optional[Path], typer.Option("--csv", help="Also write the daily table as CSV.")] = None,
     overwrite: OverwriteOpt = False,
     base: Annotated[Optional[float], typer.Option("--base", help="One base temperature for every law [degC] "
-                                                  "(default: each law's own).")] = None,
+                                                  "(default: Stefan's law the freezing point of the run's water, "
+                                                  "or of [ocean] salinity of the configuration without a run; "
+                                                  "the empirical laws their published bases).")] = None,
     every: Annotated[str, typer.Option("--every", help="Table rows: week or month.")] = "week",
     obs_path: ObsOpt = None,
     config: Annotated[Optional[Path], typer.Option("-c", "--config", help="Configuration TOML file "
-                                                   "(for [forcing] columns and max_gap).")] = None,
+                                                   "(for [forcing] columns and max_gap, and without a run "
+                                                   "[ocean] salinity and [properties] for Stefan's law).")] = None,
+    assignments: SetOpt = None,
     columns: ColumnOpt = None,
 ) -> None:
     """Compare the classical growth laws (and a model run) driven by air temperature."""
@@ -56,6 +60,7 @@ def laws_command(
         raise InputError(f"--every: expected 'week' or 'month', got {every!r}")
     if csv_path is not None:
         check_new_output(csv_path, overwrite)
+    cfg = model_config(config, assignments)
     run = None
     if is_netcdf(input_path):
         if run_path is not None:
@@ -64,18 +69,15 @@ def laws_command(
         air_time, air_temp = air_from_run(run)
         header = [f"# air temperature: interval means from the run output {input_path}"]
     else:
-        cfg = model_config(config, None)
         forcing = icecolumn.read_forcing(input_path, column_map(cfg, columns), max_gap=cfg.forcing.max_gap_seconds)
         air_time, air_temp = forcing["time"].values, forcing["air_temperature"].values
         header = [f"# air temperature: forcing file {input_path}"]
         if run_path is not None:
             run = open_run(run_path)
-    table, coeff = laws_for_run(air_time, air_temp, run, str(run_path), base)
+    table, _ = laws_for_run(air_time, air_temp, run, str(run_path), base, config=cfg)
     if run is not None:
-        header.append(f"# model: ice_thickness of {run_path}, started from its initial thickness")
-    if coeff is not None:
-        header.append(f"# Stefan's law includes the run's linear surface scheme: H = {coeff:g} W m-2 K-1 "
-                      "([surface] heat_transfer_coefficient)")
+        header.append(f"# model: ice_thickness of {run_path}, started from its initial thickness; Stefan's law "
+                      "takes the run's configuration and profiles")
     fit = None
     if obs_path is not None:  # read and fit before printing anything
         t = table["time"].values

@@ -73,8 +73,10 @@ def run_command(
                                                          help="Continue from the last state of a previous "
                                                               "output (same configuration).")] = None,
     repeat: Annotated[int, typer.Option("--repeat", min=1, metavar="N",
-                                        help="Run the forcing N times end to end (multi-year runs and "
-                                             "spin-up; the period is the file's span plus one time step).")] = 1,
+                                        help="Run the forcing N times (multi-year runs and spin-up): a file "
+                                             "of whole calendar years repeats on the calendar (29 February of "
+                                             "a leap year is a copy of 28 February; one the file has is left "
+                                             "out of common years); another file end to end.")] = 1,
 ) -> None:
     """Run the column model on a forcing file and write a NetCDF file."""
     from .forcing import repeat_forcing
@@ -93,7 +95,7 @@ def run_command(
             raise InputError(f"{restart_from}: the restart file cannot also be the output file")
         previous = open_output(restart_from)
         restart_state(previous, cfg, str(restart_from))  # check before running
-    with progress_bar() as bar:
+    with progress_bar(batch=False) as bar:  # one column: the serial kernel
         if previous is None:
             ds = icecolumn.run(data, cfg, progress=bar)
         else:

@@ -69,6 +69,7 @@ __all__ = [
     "OutputSection",
     "SolverSection",
     "ForcingSection",
+    "StationSection",
     "default_config",
     "load_config",
     "config_from_toml_text",
@@ -95,8 +96,11 @@ DRAINAGE_SCHEMES: tuple[str, ...] = ("none", "griewank_notz2013", "rees_jones_wo
 #: Names accepted by ``[drainage] permeability``.
 PERMEABILITY_CHOICES: tuple[str, ...] = ("scheme", "freitag1999", "golden2007")
 
+#: Longest free text of a ``"text"`` setting (e.g. ``[station] name``).
+MAX_TEXT_LENGTH = 200
+
 #: Kinds of setting (see :class:`Param`).
-KINDS: tuple[str, ...] = ("int", "float", "choice", "columns", "duration", "time")
+KINDS: tuple[str, ...] = ("int", "float", "choice", "columns", "duration", "time", "text")
 
 
 @dataclass(frozen=True)
@@ -105,8 +109,8 @@ class Param:
 
     ``kind`` is one of ``"int"``, ``"float"``, ``"choice"``, ``"columns"`` (text of
     ``ours=theirs`` pairs), ``"duration"``
-    (text such as ``"6h"``, kept as text) or ``"time"`` (ISO 8601 text or
-    ``None``).  ``minimum``/``maximum`` bound numbers (and durations, in
+    (text such as ``"6h"``, kept as text), ``"time"`` (ISO 8601 text or
+    ``None``) or ``"text"`` (one line of free text, or ``None``).  ``minimum``/``maximum`` bound numbers (and durations, in
     seconds); ``exclusive`` makes both given bounds strict; ``multiple_of``
     (seconds) constrains durations; ``choices`` lists allowed names.
     """
@@ -130,6 +134,8 @@ class Param:
             return "ISO 8601 time or unset"
         if self.kind == "columns":
             return "text of ours=theirs pairs, comma-separated"
+        if self.kind == "text":
+            return f"one line of text (at most {MAX_TEXT_LENGTH} characters) or unset"
         parts = []
         lo, hi = ("> ", "< ") if self.exclusive else ("≥ ", "≤ ")
         if self.minimum is not None:
@@ -202,6 +208,15 @@ def _check_value(section: str, key: str, value: Any, source: str) -> Any:
         except InputError:
             raise fail("not an ISO 8601 time (e.g. '2026-10-01T00:00Z'; no offset means UTC)") from None
         return value.strip()
+    if p.kind == "text":
+        if value is None:
+            return None
+        if not isinstance(value, str):
+            raise InputError(f"{where}: expected a text, got {_show(value)}")
+        text = value.strip()
+        if not text or "\n" in text or "\r" in text or len(text) > MAX_TEXT_LENGTH:
+            raise fail(f"must be one line of 1 to {MAX_TEXT_LENGTH} characters")
+        return text
     if p.kind == "columns":
         if not isinstance(value, str):
             raise InputError(f"{where}: expected a text of ours=theirs pairs, got {_show(value)}")
@@ -557,6 +572,35 @@ class ForcingSection(_Section):
 
 
 @dataclass(frozen=True)
+class StationSection(_Section):
+    """``[station]``: the station the run is for, written as global attributes of the NetCDF
+    outputs (run, ensemble, forecast, buoy budget; :meth:`attributes`); every key is optional."""
+
+    section: ClassVar[str] = "station"
+    name: str | None = setting(None, "", "station name, written to the NetCDF outputs (attribute station_name)",
+                               "text")
+    latitude: float | None = setting(None, "degrees_north", "station latitude, written to the NetCDF outputs "
+                                     "(attributes geospatial_lat_min and _max)", "float", -90.0, 90.0)
+    longitude: float | None = setting(None, "degrees_east", "station longitude, written to the NetCDF outputs "
+                                      "(attributes geospatial_lon_min and _max)", "float", -180.0, 360.0)
+
+    def attributes(self) -> dict[str, str | float]:
+        """Global NetCDF attributes of the station (only those set): ``station_name``, and the
+        ACDD ``geospatial_lat_min``/``_max``/``_units`` and ``geospatial_lon_*`` (a point: min
+        = max)."""
+        out: dict[str, str | float] = {}
+        if self.name is not None:
+            out["station_name"] = self.name
+        if self.latitude is not None:
+            out.update(geospatial_lat_min=self.latitude, geospatial_lat_max=self.latitude,
+                       geospatial_lat_units="degrees_north")
+        if self.longitude is not None:
+            out.update(geospatial_lon_min=self.longitude, geospatial_lon_max=self.longitude,
+                       geospatial_lon_units="degrees_east")
+        return out
+
+
+@dataclass(frozen=True)
 class Config:
     """Complete, validated run configuration; one attribute per TOML section."""
 
@@ -571,6 +615,7 @@ class Config:
     output: OutputSection = field(default_factory=OutputSection)
     solver: SolverSection = field(default_factory=SolverSection)
     forcing: ForcingSection = field(default_factory=ForcingSection)
+    station: StationSection = field(default_factory=StationSection)
 
     def __post_init__(self) -> None:
         for name, cls in SECTIONS.items():

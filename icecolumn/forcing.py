@@ -36,6 +36,18 @@ column                      units        meaning
 All columns but ``time`` and ``air_temperature`` are optional.  Other columns
 are ignored (their names go to ``attrs["ignored_columns"]``).
 
+Units in the header
+-------------------
+A header cell may declare its column's unit in brackets, e.g. ``air_temperature [K]``,
+``relative_humidity [1]``, ``snowfall [mm h-1]`` or ``snow_thickness [cm]``; the values
+are converted to the units above with the table the NetCDF reader uses
+(:data:`UNITS`).  A column without a declared unit is in the units above.  Because a
+wrong guess would go unnoticed, two undeclared columns are checked: relative humidity
+whose values are all between 0 and 1 is an error (a fraction? declare ``[1]``), and an
+air or surface temperature with most values above +20 degC is warned as probably
+Fahrenheit (declare ``[degF]``, or ``[degC]`` to confirm).  A value outside the range in
+kelvin or Fahrenheit territory gets the same hint.
+
 Gaps
 ----
 An empty cell, or a time step longer than 1.5 times the file's median step
@@ -82,7 +94,9 @@ from .timeutil import format_duration, format_time, parse_duration, parse_times
 __all__ = [
     "VARIABLES",
     "CF_STANDARD_NAMES",
+    "UNITS",
     "NETCDF_UNITS",
+    "unit_conversion",
     "ForcingWarning",
     "read_forcing",
     "read_forcing_netcdf",
@@ -218,13 +232,17 @@ _TEMPERATURE_UNITS = {
     "K": (1.0, -273.15), "kelvin": (1.0, -273.15), "degK": (1.0, -273.15),
     **{u: (1.0, 0.0) for u in ("degC", "deg_C", "degreeC", "degree_C", "degrees_C", "Celsius", "celsius",
                                "degree_Celsius", "degrees_Celsius", "°C")},
+    **{u: (5.0 / 9.0, -32.0 * 5.0 / 9.0) for u in ("degF", "deg_F", "degree_F", "degrees_F", "Fahrenheit",
+                                                     "fahrenheit", "degree_Fahrenheit", "degrees_Fahrenheit", "°F")},
 }
 _HEAT_FLUX_UNITS = {u: (1.0, 0.0) for u in ("W m-2", "W m^-2", "W m**-2", "W/m2", "W/m^2", "W.m-2", "W m-2")}
 
-#: Our variable name -> {units attribute text: (scale, offset)}: our value =
-#: file value * scale + offset.  Internal white space in the attribute is collapsed
-#: before the look-up; any other text is an error.
-NETCDF_UNITS: dict[str, dict[str, tuple[float, float]]] = {
+#: Our variable name -> {units text: (scale, offset)}: our value = file value * scale +
+#: offset.  The one conversion table of both readers: the ``units`` attribute of a NetCDF
+#: variable and the unit a CSV header declares in brackets (``air_temperature [K]``).
+#: Internal white space in the text is collapsed before the look-up; any other text is an
+#: error (:func:`unit_conversion`).
+UNITS: dict[str, dict[str, tuple[float, float]]] = {
     "air_temperature": _TEMPERATURE_UNITS,
     "surface_temperature": _TEMPERATURE_UNITS,
     "ocean_temperature": _TEMPERATURE_UNITS,
@@ -241,13 +259,24 @@ NETCDF_UNITS: dict[str, dict[str, tuple[float, float]]] = {
     "snowfall": {
         **{u: (1.0, 0.0) for u in ("kg m-2 s-1", "kg m^-2 s^-1", "kg m**-2 s**-1", "kg/m2/s", "kg/m^2/s",
                                    "mm s-1", "mm/s")},
-        **{u: (1.0 / 3600.0, 0.0) for u in ("mm h-1", "mm hr-1", "mm/h", "mm/hr")},
+        **{u: (1.0 / 3600.0, 0.0) for u in ("mm h-1", "mm hr-1", "mm/h", "mm/hr", "kg m-2 h-1")},
     },
 }
+#: The same table under its earlier name (NetCDF ``units`` attributes).
+NETCDF_UNITS = UNITS
+
+
+def unit_conversion(var: str, units: str) -> tuple[float, float] | None:
+    """(scale, offset) turning values of ``var`` in ``units`` into ours (value * scale + offset),
+    or None when :data:`UNITS` does not know the text (white space collapsed first)."""
+    return UNITS[var].get(" ".join(str(units).split()))
+
 
 _TIME_ATTRS = {"standard_name": "time", "long_name": "time (UTC)"}
 # Values in this range on a degC column were probably written in kelvin.
 _KELVIN_HINT_RANGE = (180.0, 330.0)
+# Values above the degC range up to this were probably written in Fahrenheit (+50 degC is 122 degF).
+_FAHRENHEIT_HINT_RANGE = (50.0, 180.0)
 NETCDF_SUFFIXES = (".nc", ".nc4", ".cdf", ".netcdf")
 _NETCDF_SIGNATURES = (b"CDF\x01", b"CDF\x02", b"CDF\x05", b"\x89HDF\r\n\x1a\n")
 # datetime64[ns] holds years 1678..2261; numpy wraps silently outside.
@@ -307,7 +336,8 @@ def read_forcing(
         read by :func:`read_forcing_netcdf`. [1]
     column_map : dict, optional
         Our variable name -> the file's column (or NetCDF variable) name, e.g.
-        ``{"air_temperature": "Tair_C"}``; the named column must exist. [1]
+        ``{"air_temperature": "Tair_C"}``; the named column must exist (its name
+        without a unit declared in brackets). [1]
     max_gap : str or float, optional
         Longest gap bridged by linear interpolation: a duration text such as
         ``"6h"`` or a number of seconds (0 fills no gap). [s]
@@ -330,35 +360,115 @@ def read_forcing(
     Warns
     -----
     ForcingWarning
-        When gaps were filled or relative humidity was clipped.
+        When gaps were filled, relative humidity was clipped or an undeclared
+        temperature column looks like Fahrenheit.
     """
     name = str(path)
     if is_netcdf(path):
         return read_forcing_netcdf(path, column_map, max_gap=max_gap)
     gap_s = _max_gap_seconds(max_gap, name)
     table = read_csv(path, "forcing file")
-    file_col = _resolve_columns(table.header, column_map, name, table.header_line)
-    ignored = [c for c in table.header if c not in file_col.values()]
+    names, declared = _header_units(table.header, name, table.header_line)
+    given = {ours: _HEADER_UNIT.sub("", theirs).strip() if theirs not in names else theirs
+             for ours, theirs in (column_map or {}).items()}
+    file_col = _resolve_columns(names, given, name, table.header_line)
+    text_of = dict(zip(names, table.header))  # the header cell as written, units and all
+    ignored = [text_of[c] for c in names if c not in file_col.values()]
 
     def label(i: int) -> str:
         return f"line {table.lines[i]}"
 
-    time_texts = table.column(file_col["time"])
+    time_col = text_of[file_col["time"]]
+    time_texts = table.column(time_col)
     for i, t in enumerate(time_texts):
         if not t:
-            raise InputError(f"{name}: {label(i)}: column {file_col['time']!r} is empty")
-    times = parse_times(time_texts, lambda i: f"{label(i)}: column {file_col['time']!r}", name)
-    _check_years(time_texts, name, label, f"column {file_col['time']!r}")
-    data = {var: table.numbers(file_col[var], empty_is_gap=True) for var in VARIABLES if var in file_col}
-    where = {var: "column " + _shown(file_col[var], var) for var in data}
+            raise InputError(f"{name}: {label(i)}: column {time_col!r} is empty")
+    times = parse_times(time_texts, lambda i: f"{label(i)}: column {time_col!r}", name)
+    _check_years(time_texts, name, label, f"column {time_col!r}")
+    data = {var: table.numbers(text_of[file_col[var]], empty_is_gap=True) for var in VARIABLES if var in file_col}
+    where = {var: f"column {text_of[file_col[var]]!r}" + (f" ({var})" if file_col[var] != var else "")
+             for var in data}
+    units_of = {var: declared[file_col[var]] for var in data if file_col[var] in declared}
+    for var, unit in units_of.items():
+        conversion = unit_conversion(var, unit)
+        if conversion is None:
+            distinct = {}
+            for u, c in UNITS[var].items():  # one spelling of each conversion
+                distinct.setdefault(c, u)
+            raise InputError(f"{name}: line {table.header_line}: {where[var]}: unit [{unit}] is not known for "
+                             f"{var}; declare one of {', '.join(f'[{u}]' for u in distinct.values())} (no unit: "
+                             f"{VARIABLES[var]['attrs']['units']})")
+        scale, offset = conversion
+        if scale != 1.0 or offset != 0.0:
+            data[var] = data[var] * scale + offset
+    _check_undeclared_units(data, units_of, where, name, label, table.header_line)
     attrs = {
         "source_file": name,
         "sha256": hashlib.sha256(table.raw).hexdigest(),
         "title": table.comments[0] if table.comments else "",
         "ignored_columns": ",".join(ignored),
-        "source_columns": ",".join(f"{v}={file_col[v]}" for v in ("time", *data)),
+        "source_columns": ",".join(f"{v}={text_of[file_col[v]]}" for v in ("time", *data)),
     }
-    return _build_dataset(times, data, attrs, name, label, where, gap_s)
+    return _build_dataset(times, data, attrs, name, label, where, gap_s, declared=set(units_of))
+
+
+#: A unit declared at the end of a CSV header cell: ``air_temperature [K]``.
+_HEADER_UNIT = re.compile(r"\s*\[([^\[\]]*)\]\s*$")
+#: Undeclared relative humidity whose values are all at most this is taken for a fraction.
+RH_FRACTION_LIMIT = 1.0
+#: An undeclared air or surface temperature column with more than this fraction of its values
+#: above :data:`FAHRENHEIT_HINT_TEMPERATURE` [degC] is warned as probably Fahrenheit (common
+#: practice, no source: air over growing sea ice is rarely above +20 degC, while -6.7 degC is
+#: +20 degF).
+FAHRENHEIT_HINT_FRACTION = 0.5
+FAHRENHEIT_HINT_TEMPERATURE = 20.0
+_TEMPERATURE_VARIABLES = ("air_temperature", "surface_temperature")
+
+
+def _header_units(header: list[str], name: str, header_no: int) -> tuple[list[str], dict[str, str]]:
+    """Column names without their declared units, and {name: unit text} of the declared ones."""
+    names: list[str] = []
+    declared: dict[str, str] = {}
+    for cell in header:
+        m = _HEADER_UNIT.search(cell)
+        base = cell[: m.start()].strip() if m else cell
+        if not base:
+            raise InputError(f"{name}: line {header_no}: header column {cell!r} has a unit but no name")
+        if base in names:
+            raise InputError(f"{name}: line {header_no}: column {base!r} appears twice ({header[names.index(base)]!r} "
+                             f"and {cell!r})")
+        names.append(base)
+        if m:
+            declared[base] = " ".join(m.group(1).split())
+    return names, declared
+
+
+def _check_undeclared_units(data: dict[str, np.ndarray], units_of: dict[str, str], where: Mapping[str, str],
+                            name: str, label: Callable[[int], str], header_no: int) -> None:
+    """Columns without a declared unit whose values look like another unit: relative humidity
+    that is all <= 1 (a fraction) is an error; air or surface temperature mostly above +20
+    (Fahrenheit) is a warning.  Each message says how to declare the unit in the header."""
+    rh = data.get("relative_humidity")
+    if rh is not None and "relative_humidity" not in units_of:
+        valid = rh[np.isfinite(rh)]
+        if valid.size and valid.max() <= RH_FRACTION_LIMIT and valid.min() >= 0.0:
+            raise InputError(
+                f"{name}: line {header_no}: {where['relative_humidity']}: every value is between 0 and "
+                f"{RH_FRACTION_LIMIT:g} (largest {valid.max():g}): a fraction, not %? Declare the unit in the header: "
+                "'relative_humidity [1]' for a fraction (or 'relative_humidity [%]' if these are percent)")
+    for var in _TEMPERATURE_VARIABLES:
+        values = data.get(var)
+        if values is None or var in units_of:
+            continue
+        valid = values[np.isfinite(values)]
+        warm = valid > FAHRENHEIT_HINT_TEMPERATURE
+        if valid.size and warm.mean() > FAHRENHEIT_HINT_FRACTION and valid.max() <= VARIABLES[var]["range"][1]:
+            first = int(np.flatnonzero(np.isfinite(values))[int(np.flatnonzero(warm)[0])])
+            warnings.warn(
+                f"{name}: {where[var]}: {100 * warm.mean():.0f} % of the values are above "
+                f"+{FAHRENHEIT_HINT_TEMPERATURE:g} degC (median {np.median(valid):.1f}, first on {label(first)}): is the "
+                f"file in Fahrenheit? Declare the unit in the header: '{var} [degF]' (or '{var} [degC]' if these "
+                "are degrees Celsius)", ForcingWarning, stacklevel=3)
 
 
 def _shown(column: str, var: str) -> str:
@@ -411,8 +521,13 @@ def _build_dataset(
     label: Callable[[int], str],
     where: Mapping[str, str],
     max_gap: float | None,
+    declared: set[str] | None = None,
 ) -> xr.Dataset:
-    """Check times and values, fill gaps (``max_gap`` seconds; ``None``: NaN is an error)."""
+    """Check times and values, fill gaps (``max_gap`` seconds; ``None``: NaN is an error).
+
+    ``declared``: the variables whose unit the file declared (a CSV header unit); an
+    out-of-range value of another degC column gets a hint to declare its unit.  ``None``:
+    every unit was given (NetCDF) or there is no header (arrays)."""
     n = times.size
     if n < 2:
         raise InputError(f"{name}: only {n} data row{'s' if n != 1 else ''}; at least 2 are needed")
@@ -464,8 +579,12 @@ def _build_dataset(
         if outside.any():
             i = int(np.flatnonzero(outside)[0])
             hint = ""
+            header = declared is not None and var not in declared
             if unit == "degC" and _KELVIN_HINT_RANGE[0] <= values[i] <= _KELVIN_HINT_RANGE[1]:
-                hint = " (is the file in kelvin?)"
+                hint = f" (is the file in kelvin? declare the unit in the header: '{var} [K]')" if header else \
+                    " (is the file in kelvin?)"
+            elif unit == "degC" and header and _FAHRENHEIT_HINT_RANGE[0] < values[i] <= _FAHRENHEIT_HINT_RANGE[1]:
+                hint = f" (is the file in Fahrenheit? declare the unit in the header: '{var} [degF]')"
             if var == "relative_humidity":
                 hint = f" (up to {RH_CLIP_LIMIT:g} % is clipped to 100 %)"
             u = _unit_text(unit)
@@ -530,13 +649,14 @@ def read_forcing_netcdf(
 
     Each of our variables is the file's variable whose ``standard_name`` is one
     of :data:`CF_STANDARD_NAMES` (or the variable named by ``column_map``).
-    Values are converted from the ``units`` attribute with :data:`NETCDF_UNITS`:
-    temperatures in ``K`` or ``degC`` (also ``Celsius``, ``deg_C``, ...);
+    Values are converted from the ``units`` attribute with :data:`UNITS`:
+    temperatures in ``K``, ``degC`` (also ``Celsius``, ``deg_C``, ...) or ``degF``;
     relative humidity in ``%`` or ``1`` (fraction, times 100); cloud fraction in
     ``1`` (a missing ``units`` is taken as ``1``) or ``%`` (divided by 100); snow
     depth in ``m``, ``cm`` or ``mm``; radiative and ocean heat fluxes in
     ``W m-2``; wind in ``m s-1``; snowfall in ``kg m-2 s-1`` (``mm s-1`` is the
-    same for water) or ``mm h-1`` (divided by 3600).  Fill values (decoded to
+    same for water) or ``mm h-1`` (divided by 3600).  The CSV reader converts a unit
+    declared in a header (``air_temperature [K]``) with the same table.  Fill values (decoded to
     NaN by xarray) are gaps, filled as in the CSV reader.  Time is decoded by
     xarray from its CF ``units``; it must be one dimension and a standard
     calendar.  Variables may have extra dimensions of length 1 (e.g. a station).
@@ -650,12 +770,12 @@ def _from_netcdf(ds: xr.Dataset, raw: bytes, name: str, column_map: dict[str, st
             units = "1"
         else:
             raise InputError(f"{name}: variable {theirs!r} ({ours}) has no units attribute; expected one of "
-                             f"{_names(NETCDF_UNITS[ours])}")
-        table = NETCDF_UNITS[ours]
-        if units not in table:
+                             f"{_names(UNITS[ours])}")
+        conversion = unit_conversion(ours, units)
+        if conversion is None:
             raise InputError(f"{name}: variable {theirs!r} ({ours}): units {units!r} are not known for {ours}; "
-                             f"expected one of {_names(table)}")
-        scale, offset = table[units]
+                             f"expected one of {_names(UNITS[ours])}")
+        scale, offset = conversion
         with np.errstate(all="ignore"):
             values = np.asarray(da.values, dtype=np.float64)
             if scale != 1.0 or offset != 0.0:
@@ -754,11 +874,46 @@ def _times_from_any(time: Any, name: str, label: Callable[[int], str]) -> np.nda
     return times
 
 
-def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
-    """The forcing repeated ``times`` times end to end (for spin-up and multi-year runs).
+#: Days of a mean Gregorian year (common practice, no source).
+_DAYS_PER_YEAR = 365.2425
 
-    The period is the forcing's span plus one time step (its last step), so an hourly year
-    from 15 Sep 00:00 to 14 Sep 23:00 repeats every 365 days exactly.
+
+def _is_leap(year: np.ndarray) -> np.ndarray:
+    return (year % 4 == 0) & ((year % 100 != 0) | (year % 400 == 0))
+
+
+def _shift_calendar_years(t: np.ndarray, years: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Times ``t`` (datetime64[ns]) moved by whole calendar ``years`` (same month, day and time).
+
+    Returns the shifted times of the rows kept, the indices of those rows, and the indices of
+    the rows to copy one day later (source 28 February moved into a leap year the source lacks
+    a 29 February for).  A source 29 February that lands in a common year is left out.
+    """
+    month = t.astype("datetime64[M]")
+    into_month = t - month.astype("datetime64[ns]")
+    target = month + np.timedelta64(12 * years, "M")
+    shifted = target.astype("datetime64[ns]") + into_month
+    keep = np.flatnonzero(shifted.astype("datetime64[M]") == target)  # not spilled into March
+    year = target.astype("datetime64[Y]").astype(np.int64) + 1970
+    source_year = month.astype("datetime64[Y]").astype(np.int64) + 1970
+    day = (into_month // np.timedelta64(1, "D")).astype(np.int64) + 1
+    is_feb = (target.astype(np.int64) % 12) == 1
+    leap_copy = np.flatnonzero(is_feb & (day == 28) & _is_leap(year) & ~_is_leap(source_year))
+    return shifted[keep], keep, leap_copy
+
+
+def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
+    """The forcing repeated ``times`` times (for spin-up and multi-year runs), on the calendar.
+
+    A forcing that covers whole calendar years (its last time plus one time step is its
+    first time some years later, e.g. hourly from 15 Sep 00:00 to 14 Sep 23:00) is repeated
+    on the calendar: each repetition is its dates moved by that many whole calendar years,
+    so 1 January stays 1 January and the seasons stay in place.  29 February: a repetition
+    in a leap year that the forcing's year has no 29 February for gets one, a copy of 28
+    February (24 h more of that day's weather); a 29 February of the forcing that falls in a
+    common year is left out.  Any other forcing (a winter season, a few days) is repeated
+    end to end with the period of its span plus one time step, as before, with a
+    :class:`ForcingWarning` that its dates drift from the calendar.
 
     Parameters
     ----------
@@ -770,20 +925,55 @@ def repeat_forcing(forcing: xr.Dataset, times: int) -> xr.Dataset:
     Returns
     -------
     xarray.Dataset
-        Same variables; ``attrs["repeated"]`` records the count.
+        Same variables; ``attrs["repeated"]`` records the count and ``attrs["repeat_mode"]``
+        how the copies were placed (and what happened to 29 February).
     """
     if int(times) < 1:
         raise InputError(f"repeat_forcing: times must be at least 1, got {times}")
     t = forcing["time"].values.astype("datetime64[ns]")
     if t.size < 2:
         raise InputError("repeat_forcing: the forcing needs at least two times")
-    period = t[-1] - t[0] + (t[-1] - t[-2])
-    copies = []
-    for i in range(int(times)):
-        part = forcing.copy()
-        part = part.assign_coords(time=t + i * period)
-        copies.append(part)
+    step = t[-1] - t[-2]
+    period = t[-1] - t[0] + step
+    years = int(round(period / np.timedelta64(1, "D") / _DAYS_PER_YEAR))
+    median_step = np.median(np.diff(t.astype(np.int64)))
+    calendar = False
+    if years >= 1:
+        next_start = _shift_calendar_years(t[:1], years)[0]
+        gap = (next_start[0] - t[-1]).astype(np.int64) if next_start.size else -1
+        calendar = 0 < gap <= GAP_STEP_FACTOR * median_step
+    copies = [forcing]
+    leap_added = dropped = 0
+    if calendar:
+        for i in range(1, int(times)):
+            shifted, keep, leap_copy = _shift_calendar_years(t, i * years)
+            part = forcing.isel(time=keep).assign_coords(time=shifted)
+            dropped += t.size - keep.size
+            if leap_copy.size:
+                extra = forcing.isel(time=leap_copy)
+                extra = extra.assign_coords(time=_shift_calendar_years(t[leap_copy], i * years)[0]
+                                            + np.timedelta64(1, "D"))
+                part = xr.concat([part, extra], dim="time").sortby("time")
+                leap_added += leap_copy.size
+            copies.append(part)
+        mode = (f"calendar: each repetition {years} calendar year{'s' if years != 1 else ''} after the one before, "
+                "on the same dates; a leap year the forcing has no 29 February for gets a copy of 28 February, "
+                "and a 29 February of the forcing in a common year is left out")
+        if leap_added or dropped:
+            mode += f" ({leap_added} rows added as 29 February, {dropped} rows of 29 February left out)"
+    else:
+        for i in range(1, int(times)):
+            copies.append(forcing.assign_coords(time=t + i * period))
+        days = period / np.timedelta64(1, "D")
+        mode = f"end to end: period {days:g} days (the forcing's span plus one time step)"
+        if int(times) > 1:
+            warnings.warn(
+                f"{forcing.attrs.get('source_file', 'forcing')}: --repeat: the forcing ({format_time(t[0])} to "
+                f"{format_time(t[-1])}) does not cover whole calendar years, so its {int(times)} repetitions follow "
+                f"end to end every {days:g} days and their dates drift from the calendar", ForcingWarning,
+                stacklevel=2)
     out = xr.concat(copies, dim="time") if len(copies) > 1 else copies[0]
     out.attrs = dict(forcing.attrs)
     out.attrs["repeated"] = int(times)
+    out.attrs["repeat_mode"] = mode
     return out

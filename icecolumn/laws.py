@@ -11,14 +11,17 @@ thickness.  Formulas and sources are in :mod:`icecolumn.growth_laws`.
 from __future__ import annotations
 
 import csv
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import xarray as xr
 
-from icecolumn.config import config_from_toml_text
+from icecolumn.config import Config, config_from_toml_text, default_config
 from icecolumn.constants import SECONDS_PER_DAY
 from icecolumn.errors import InputError
+from icecolumn.phase import liquidus_temperature
+from icecolumn import properties
 from icecolumn.textfile import check_new_output, write_atomically
 from icecolumn.texttable import text_table
 from icecolumn.growth_laws import (
@@ -32,7 +35,8 @@ from icecolumn.growth_laws import (
 )
 
 __all__ = ["laws_table", "format_laws_table", "write_laws_csv", "fit_observations", "laws_for_run",
-           "air_from_run", "run_surface_coefficient", "fit_table_to_observations", "RUN_VARIABLES"]
+           "air_from_run", "run_surface_coefficient", "fit_table_to_observations", "RUN_VARIABLES",
+           "StefanInputs", "stefan_inputs", "run_conductivity", "STEFAN_LABELS", "LAW_SHORT_LABEL"]
 
 _LAW_LABEL = {
     "stefan": "Stefan's law",
@@ -40,6 +44,15 @@ _LAW_LABEL = {
     "anderson": "Anderson (1961) law",
     "zubov": "Zubov (1945) law",
 }
+
+#: The short name of each law in tables and figure legends (``label`` attribute of its
+#: variable); Stefan's depends on its form (:data:`STEFAN_LABELS`).
+LAW_SHORT_LABEL = {"lebedev": "Lebedev (1938)", "anderson": "Anderson (1961)", "zubov": "Zubov (1945)"}
+#: Stefan's law with the ice surface at air temperature, and with the linear surface transfer.
+STEFAN_LABELS = {"plain": "Stefan, surface = air", "transfer": "Stefan with surface transfer"}
+#: Stefan's conductivity when there is neither a run nor a constant configured conductivity
+#: [W m-1 K-1] (common practice, no source).
+DEFAULT_STEFAN_CONDUCTIVITY = 2.2
 
 
 def _trim_to_start(t_ns: np.ndarray, temp: np.ndarray, start):
@@ -62,7 +75,8 @@ def _trim_to_start(t_ns: np.ndarray, temp: np.ndarray, start):
 def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
                start=None, model_time=None, model_thickness=None,
                conductivity=2.2, density=917.0, latent_heat=334e3,
-               surface_coefficient=None, freezing_point=-1.8) -> xr.Dataset:
+               surface_coefficient=None, freezing_point=-1.8, freezing_point_note=None,
+               conductivity_note=None) -> xr.Dataset:
     """Daily table of freezing degree days and growth-law thickness.
 
     Parameters
@@ -96,6 +110,11 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
     freezing_point : float, optional
         Freezing point of the sea water, Stefan's base when ``base`` is None
         [degC].
+    freezing_point_note : str or None, optional
+        Where ``freezing_point`` comes from, for the table (e.g. "the run's
+        freezing point ...") [1].
+    conductivity_note : str or None, optional
+        Where ``conductivity`` comes from, for the table [1].
 
     Returns
     -------
@@ -103,9 +122,13 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
         ``time`` coordinate: the start time, then the end of each UTC day
         (the last row at the last forcing sample if that day is partial).
         Variables ``fdd`` (with ``base``) or ``fdd_<law>`` (without),
-        ``stefan``, ``lebedev``, ``anderson``, ``zubov`` [m], and with a
+        ``stefan``, ``lebedev``, ``anderson``, ``zubov`` [m] (each with a
+        ``label`` attribute, the name tables and legends show: Stefan's is
+        :data:`STEFAN_LABELS` ``"plain"`` or ``"transfer"``), and with a
         model ``model`` [m] (NaN outside the model period) and
-        ``ratio_<law>`` = model / law [1].
+        ``ratio_<law>`` = model / law [1].  Attributes record each law's
+        base and where it comes from (``base_temperature_<law>_degC``,
+        ``base_source_<law>``) and Stefan's form and parameters.
     """
     t_ns = np.atleast_1d(_as_ns(air_time, "air_time"))
     temp = np.atleast_1d(np.asarray(air_temperature, dtype=float))
@@ -129,11 +152,15 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
     if base is None:
         bases = {name: (fp if b is None else float(b))
                  for name, b in LAW_BASE_TEMPERATURE.items()}
+        fp_note = freezing_point_note or "the freezing point of the water"
+        base_source = {name: (fp_note if b is None else "the law's published base")
+                       for name, b in LAW_BASE_TEMPERATURE.items()}
     else:
         b = float(base)
         if not np.isfinite(b):
             raise InputError(f"base: must be a finite temperature, got {base!r}")
         bases = {name: b for name in LAWS}
+        base_source = {name: "one base for every law (--base)" for name in LAWS}
 
     air_time_dt = t_ns.astype("datetime64[ns]")
     fdd_by_base: dict[float, np.ndarray] = {}
@@ -158,12 +185,17 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
                 "long_name": (f"cumulative freezing degree days below "
                               f"{bases[name]:g} degC ({_LAW_LABEL[name]} base)"),
                 "base_temperature_degC": bases[name]})
+    stefan_label = STEFAN_LABELS["plain" if surface_coefficient is None else "transfer"]
+    labels = {"stefan": stefan_label, **LAW_SHORT_LABEL}
     for name in LAWS:
         kwargs = stefan_kwargs if name == "stefan" else {}
         h = thickness_from(name, fdd_by_base[bases[name]], h0, **kwargs)
         data_vars[name] = ("time", h, {
             "units": "m", "standard_name": "sea_ice_thickness",
-            "long_name": f"sea ice thickness from {_LAW_LABEL[name]}",
+            "long_name": f"sea ice thickness from {_LAW_LABEL[name]}" + (
+                f" ({stefan_label})" if name == "stefan" else ""),
+            "label": labels[name],
+            "base_temperature_degC": bases[name],
             "references": LAW_REFERENCE[name]})
 
     if model_time is not None:
@@ -192,11 +224,11 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
                 "long_name": f"ratio of model thickness to {_LAW_LABEL[name]}"})
 
     if surface_coefficient is None:
-        stefan_form = ("plain Stefan's law (ice surface at air temperature, no "
+        stefan_form = (f"{stefan_label}: plain Stefan's law (ice surface at air temperature, no "
                        "surface resistance); plain Stefan with air temperature "
                        "overpredicts by 35-50 %")
     else:
-        stefan_form = ("Stefan's law with the surface resistance 1/H of the linear "
+        stefan_form = (f"{stefan_label}: Stefan's law with the surface resistance 1/H of the linear "
                        f"surface coefficient H = {float(surface_coefficient):g} W m-2 K-1")
     attrs = {
         "title": "classical sea-ice growth laws driven by air temperature",
@@ -204,7 +236,9 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
         "stefan_form": stefan_form,
         "stefan_surface_coefficient": ("none" if surface_coefficient is None
                                        else float(surface_coefficient)),
+        "stefan_label": stefan_label,
         "stefan_conductivity_W_m-1_K-1": float(conductivity),
+        "stefan_conductivity_source": conductivity_note or "given",
         "stefan_density_kg_m-3": float(density),
         "stefan_latent_heat_J_kg-1": float(latent_heat),
         "initial_thickness_m": h0,
@@ -213,12 +247,18 @@ def laws_table(air_time, air_temperature, *, base=None, initial_thickness=0.0,
     }
     for name in LAWS:
         attrs[f"base_temperature_{name}_degC"] = bases[name]
+        attrs[f"base_source_{name}"] = base_source[name]
     attrs["base_temperatures"] = "; ".join(
-        f"{name}: {bases[name]:g} degC" for name in LAWS)
+        f"{name}: {_fmt_base(bases[name])} degC" for name in LAWS)
     coords = {"time": ("time", knot_time, {
         "long_name": "time (start, then end of each UTC day)",
         "standard_name": "time"})}
     return xr.Dataset(data_vars, coords=coords, attrs=attrs)
+
+
+def _fmt_base(value: float) -> str:
+    """A base temperature for tables: two decimals unless it is a round published value."""
+    return f"{value:g}" if round(value, 1) == value else f"{value:.2f}"
 
 
 def _fdd_names(ds: xr.Dataset) -> list[str]:
@@ -252,7 +292,8 @@ def _select_rows(times: np.ndarray, every: str) -> np.ndarray:
 def format_laws_table(ds: xr.Dataset, every: str = "week") -> str:
     """Plain-text table of a :func:`laws_table` result, weekly or monthly.
 
-    Lines starting with ``#`` describe the bases and the Stefan form; then
+    Lines starting with ``#`` (:func:`law_lines`) name each law, its base and where the base
+    comes from, and Stefan's form and parameters; then
     come a column-name line, a units line, a rule and one line per row.  For
     ``every="week"`` the rows are the start and every 7 days after it; for
     ``every="month"`` the start and each 00:00 UTC of the first of a month.
@@ -288,10 +329,33 @@ def format_laws_table(ds: xr.Dataset, every: str = "week") -> str:
                 v = float(ds[name].values[i])
                 line.append("nan" if not np.isfinite(v) else fmt.format(v))
         cells.append(line)
-    head = (f"# bases: {ds.attrs.get('base_temperatures', '')}\n"
-            f"# Stefan: {ds.attrs.get('stefan_form', '')}\n"
-            f"# initial thickness: {ds.attrs.get('initial_thickness_m', 0.0):g} m\n")
-    return head + text_table([(name, unit) for name, unit, _ in columns], cells)
+    return law_lines(ds) + text_table([(name, unit) for name, unit, _ in columns], cells)
+
+
+def law_lines(ds: xr.Dataset) -> str:
+    """The ``#`` lines above a :func:`format_laws_table` table: per law (column) its name as in
+    the figure legend and the base of its freezing degree days with where that base comes
+    from; Stefan's form and parameters; the initial thickness."""
+    width = max(len(n) for n in LAWS)
+    lines = ["# laws (column: name; base of its freezing degree days):"]
+    for name in LAWS:
+        if name not in ds:
+            continue
+        label = ds[name].attrs.get("label", _LAW_LABEL[name])
+        base = float(ds.attrs.get(f"base_temperature_{name}_degC", float("nan")))
+        source = ds.attrs.get(f"base_source_{name}", "")
+        lines.append(f"#   {name:<{width}}  {label}; base {_fmt_base(base)} degC" + (f", {source}" if source else ""))
+    coeff = ds.attrs.get("stefan_surface_coefficient", "none")
+    form = ("surface at air temperature (no surface resistance)" if coeff == "none"
+            else f"surface transfer H = {float(coeff):g} W m-2 K-1 ([surface] heat_transfer_coefficient of the run)")
+    lines.append(f"# Stefan: {form}; k = {float(ds.attrs.get('stefan_conductivity_W_m-1_K-1', 2.2)):.3g} W m-1 K-1 "
+                 f"({ds.attrs.get('stefan_conductivity_source', 'given')}), rho = "
+                 f"{float(ds.attrs.get('stefan_density_kg_m-3', 917.0)):g} kg m-3, L = "
+                 f"{float(ds.attrs.get('stefan_latent_heat_J_kg-1', 334e3)):g} J kg-1")
+    if coeff == "none":
+        lines.append("# (Stefan with the surface at air temperature overpredicts observed growth by 35-50 %)")
+    lines.append(f"# initial thickness: {ds.attrs.get('initial_thickness_m', 0.0):g} m")
+    return "\n".join(lines) + "\n"
 
 
 def write_laws_csv(ds: xr.Dataset, path, overwrite: bool = False) -> None:
@@ -408,13 +472,93 @@ def run_surface_coefficient(ds: xr.Dataset, source: str) -> float | None:
     return cfg.surface.heat_transfer_coefficient if ran == "linear" else None
 
 
+#: Profiles of a run from which Stefan's conductivity is taken (:func:`run_conductivity`).
+PROFILE_VARIABLES = ("temperature", "liquid_fraction", "bulk_salinity")
+
+
+def run_conductivity(run: xr.Dataset, cfg: Config) -> float | None:
+    """The conductivity of a run's ice column for Stefan's law [W m-1 K-1], or None when the
+    output has no profiles.
+
+    Each layer's conductivity is :func:`icecolumn.properties.conductivity` of its
+    temperature, liquid fraction and bulk salinity with the run's ``[properties]
+    conductivity_model`` (and ``ice_conductivity``).  The layers are equal fractions of the
+    thickness and conduct in series, so the column's conductivity at one output time is
+    their harmonic mean (layers from the surface to the ice-ocean interface, the porous
+    bottom included); the value returned is the mean of that over the output times with
+    ice.
+    """
+    if any(v not in run for v in PROFILE_VARIABLES):
+        return None
+    t, phi, sal = (np.asarray(run[v].transpose("time", "layer").values, dtype=float) for v in PROFILE_VARIABLES)
+    ok = np.isfinite(t) & np.isfinite(phi) & np.isfinite(sal)
+    rows = ok.all(axis=1) & ok.any(axis=1)  # output times with ice (open water has no layers)
+    if not rows.any():
+        return None
+    k = properties.conductivity(t[rows], phi[rows], sal[rows], model=cfg.properties.conductivity_model,
+                                constant_value=cfg.properties.ice_conductivity)
+    column = k.shape[1] / np.sum(1.0 / k, axis=1)
+    return float(np.mean(column))
+
+
+@dataclass(frozen=True)
+class StefanInputs:
+    """What Stefan's law (and its base) takes from a run or a configuration, with where each
+    value comes from (for the table)."""
+
+    freezing_point: float  # [degC]
+    freezing_point_note: str
+    conductivity: float  # [W m-1 K-1]
+    conductivity_note: str
+    density: float  # [kg m-3]
+    latent_heat: float  # [J kg-1]
+
+
+def stefan_inputs(run: xr.Dataset | None = None, source: str = "", config: Config | None = None) -> StefanInputs:
+    """Freezing point, conductivity, density and latent heat for Stefan's law.
+
+    The freezing point is the model liquidus (:func:`icecolumn.phase.liquidus_temperature`)
+    of ``[ocean] salinity``; density and latent heat are ``[properties] ice_density`` and
+    ``latent_heat``.  With ``run`` these come from the run's configuration (its
+    ``icecolumn_config`` attribute) and the conductivity from its profiles
+    (:func:`run_conductivity`); without one from ``config`` (default: the defaults), the
+    conductivity being ``[properties] ice_conductivity`` of the ``constant`` model or else
+    :data:`DEFAULT_STEFAN_CONDUCTIVITY`.
+    """
+    cfg = None
+    where = "the configuration"
+    if run is not None and run.attrs.get("icecolumn_config"):
+        cfg = config_from_toml_text(str(run.attrs["icecolumn_config"]), f"{source}: attribute icecolumn_config")
+        where = "the run"
+    if cfg is None:
+        cfg = config if config is not None else default_config()
+        if config is None:
+            where = "the default configuration"
+    sal = cfg.ocean.salinity
+    fp = float(liquidus_temperature(sal))
+    fp_note = f"the freezing point of {where}'s water (model liquidus at [ocean] salinity {sal:g} g/kg)"
+    k = run_conductivity(run, cfg) if run is not None else None
+    if k is not None:
+        k_note = (f"the run's: harmonic mean over the layers of [properties] conductivity_model = "
+                  f"{cfg.properties.conductivity_model} at the run's temperature, liquid fraction and bulk "
+                  "salinity, averaged over the output times with ice")
+    elif cfg.properties.conductivity_model == "constant":
+        k, k_note = cfg.properties.ice_conductivity, f"[properties] ice_conductivity of {where}"
+    else:
+        k = DEFAULT_STEFAN_CONDUCTIVITY
+        k_note = ("common practice" + ("" if run is not None else "; give --run to use a run's own conductivity"))
+    return StefanInputs(fp, fp_note, float(k), k_note, cfg.properties.ice_density, cfg.properties.latent_heat)
+
+
 def laws_for_run(air_time, air_temperature, run: xr.Dataset | None = None, run_source: str = "",
-                 base: float | None = None) -> tuple[xr.Dataset, float | None]:
+                 base: float | None = None, config: Config | None = None) -> tuple[xr.Dataset, float | None]:
     """The growth-law table on this air temperature, compared with a run when one is given.
 
     With ``run`` (one column of an icecolumn output) the laws start from the run's initial
     thickness at its start, the table gets the ``model`` column and Stefan's law includes
-    the run's linear surface coefficient when that scheme ran.
+    the run's linear surface coefficient when that scheme ran.  Stefan's base (unless
+    ``base``), conductivity, density and latent heat are the run's, or without a run those of
+    ``config`` (:func:`stefan_inputs`); the empirical laws keep their published bases.
 
     Returns
     -------
@@ -423,12 +567,15 @@ def laws_for_run(air_time, air_temperature, run: xr.Dataset | None = None, run_s
     surface_coefficient : float or None
         The H used in Stefan's law. [W m-2 K-1]
     """
-    kwargs: dict[str, Any] = {}
+    inputs = stefan_inputs(run, run_source, config)
+    kwargs: dict[str, Any] = dict(freezing_point=inputs.freezing_point, freezing_point_note=inputs.freezing_point_note,
+                                  conductivity=inputs.conductivity, conductivity_note=inputs.conductivity_note,
+                                  density=inputs.density, latent_heat=inputs.latent_heat)
     coeff = None
     if run is not None:
         h = np.asarray(run["ice_thickness"].values, dtype=float)
         coeff = run_surface_coefficient(run, run_source)
-        kwargs = dict(initial_thickness=float(h[0]), start=run["time"].values[0],
+        kwargs.update(initial_thickness=float(h[0]), start=run["time"].values[0],
                       model_time=run["time"].values, model_thickness=h, surface_coefficient=coeff)
     return laws_table(air_time, air_temperature, base=base, **kwargs), coeff
 

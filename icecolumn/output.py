@@ -244,8 +244,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["depth"] = (dims_tl, depth, _attrs("m", "depth of the layer centre below the ice surface",
                                          positive="down",
                                          comment="layer top and bottom depths are in depth_bounds"))
-    # a plain data variable, not CF cell bounds: CF 7.1 wants >= 3 vertices for bounds of a
-    # 2-D auxiliary coordinate, and this grid moves with the ice.
+    # a plain data variable, not CF cell bounds, and nv first: the CF checker (compliance-checker
+    # 5) rejects both alternatives.  As bounds of depth(time, layer) with nv last, section 7.1
+    # wants at least ndim + 1 = 3 vertices (a layer of this moving grid has two, top and bottom);
+    # as a data variable with nv last, section 2.4 wants the unknown dimension nv left of T, Z.
     v["depth_bounds"] = (("member", "nv", "time", "layer"), np.moveaxis(bounds, -1, 1), _attrs("m", "depth of the layer top (nv=0) and bottom (nv=1) "
                                                                 "below the ice surface"))
     v["layer_state"] = (("member", "state", "time"), np.swapaxes(st, 1, 2),
@@ -282,6 +284,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         "solver_steps_accepted": int(raw.counters[:, 0].sum()),
         "solver_steps_rejected": int(raw.counters[:, 1].sum()),
         "solver_newton_iterations": int(raw.counters[:, 2].sum()),
+        **cfg0.station.attributes(),  # [station] name and position, when set
     }
     if not keep_member and nm == 1:
         ds = ds.isel(member=0, drop=True)

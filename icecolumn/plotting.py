@@ -39,10 +39,11 @@ from matplotlib.figure import Figure
 from icecolumn.constants import SECONDS_PER_DAY
 from icecolumn.errors import InputError
 from icecolumn.output_io import check_output_dataset
-from icecolumn.textfile import write_atomically
+from icecolumn.textfile import check_new_output, write_atomically, write_files_atomically
 
 __all__ = [
     "FIELDS",
+    "FIGURE_NAMES",
     "LAW_LABELS",
     "OUTPUT_VARIABLES",
     "plot_profiles",
@@ -60,7 +61,9 @@ FIELDS: tuple[tuple[str, str, str], ...] = (
     ("brine_salinity", "brine salinity", "magma"),
 )
 
-#: Legend text for the empirical growth laws a ``laws`` dataset may hold.
+#: Legend text for the growth laws a ``laws`` dataset may hold, used when its variable has no
+#: ``label`` attribute (a :func:`icecolumn.laws.laws_table` Dataset has one, the name its
+#: table shows, e.g. "Stefan with surface transfer").
 LAW_LABELS: dict[str, str] = {
     "stefan": "Stefan (1891)",
     "lebedev": "Lebedev (1938)",
@@ -79,6 +82,8 @@ OUTPUT_VARIABLES = tuple(
 
 FORMATS = ("png", "pdf", "svg")
 BAND_PERCENTILES = (5.0, 95.0)
+#: The figures :func:`plot_run` writes, ``<name>.<format>``.
+FIGURE_NAMES = ("thickness", "sections", "salt", "profiles")
 
 _SUPERSCRIPT = str.maketrans("-0123456789", "\u207b\u2070\u00b9\u00b2\u00b3\u2074\u2075\u2076\u2077\u2078\u2079")
 
@@ -205,11 +210,39 @@ def _points(obj: Any, value_name: str, what: str) -> tuple[np.ndarray, np.ndarra
     return _datenum(t.ravel()), d.ravel(), v.ravel()
 
 
-def _field_limits(values: np.ndarray) -> tuple[float, float]:
-    finite = values[np.isfinite(values)]
-    if finite.size == 0:
-        return 0.0, 1.0
-    return float(np.min(finite)), float(np.max(finite))
+#: Percentiles of the interior ice that bound the section colour scales.
+ROBUST_PERCENTILES = (2.0, 98.0)
+
+
+def _interior_fraction(ds: xr.Dataset) -> float:
+    """Largest liquid fraction of "interior" ice: the run's ``[output] load_bearing_liquid_fraction``
+    (the default when the file has no readable configuration)."""
+    from icecolumn.config import config_from_toml_text, default_config
+
+    try:
+        cfg = config_from_toml_text(str(ds.attrs.get("icecolumn_config", "")), _source(ds))
+    except InputError:
+        cfg = default_config()
+    return cfg.output.load_bearing_liquid_fraction
+
+
+def _robust_limits(values: np.ndarray, interior: np.ndarray) -> tuple[float, float, str]:
+    """Colour limits of a section: the :data:`ROBUST_PERCENTILES` of the interior cells (all
+    finite cells when there are none), and the colour bar's ``extend`` ("neither", "min",
+    "max" or "both") for the values beyond them."""
+    finite = np.isfinite(values)
+    use = finite & interior
+    if not use.any():
+        use = finite
+    if not use.any():
+        return 0.0, 1.0, "neither"
+    lo, hi = (float(v) for v in np.percentile(values[use], ROBUST_PERCENTILES))
+    if not hi > lo:
+        lo, hi = float(values[use].min()), float(values[use].max())
+    below = bool((values[finite] < lo).any())
+    above = bool((values[finite] > hi).any())
+    extend = {(False, False): "neither", (True, False): "min", (False, True): "max", (True, True): "both"}
+    return lo, hi, extend[(below, above)]
 
 
 def _moving_mesh(
@@ -250,7 +283,9 @@ def plot_thickness(
     """Ice thickness (top panel) and snow thickness (bottom panel) against time.
 
     ``laws``: Dataset/mapping with ``time`` and any of ``stefan``, ``lebedev``,
-    ``anderson``, ``zubov`` [m], drawn as thin dashed lines.  ``obs``:
+    ``anderson``, ``zubov`` [m], drawn as thin dashed lines, labelled as the laws table
+    names them (``label`` and ``base_temperature_degC`` attributes of
+    :func:`icecolumn.laws.laws_table`).  ``obs``:
     Dataset/mapping with ``time``, ``ice_thickness`` and optionally
     ``snow_thickness``, drawn as markers labelled "drill holes".
     """
@@ -285,7 +320,7 @@ def plot_thickness(
         for key, color in zip(LAW_LABELS, colors):
             if key in laws:
                 ax.plot(xl, np.asarray(laws[key], dtype=float), linestyle="--",
-                        linewidth=1.0, color=color, label=LAW_LABELS[key], gid=f"law:{key}")
+                        linewidth=1.0, color=color, label=_law_legend(laws, key), gid=f"law:{key}")
     if obs is not None:
         if "time" not in obs or "ice_thickness" not in obs:
             raise InputError("observations: need time and ice_thickness")
@@ -320,6 +355,18 @@ def plot_thickness(
     return fig
 
 
+def _law_legend(laws, key: str) -> str:
+    """Legend text of one law: the ``label`` attribute of its variable (the name the laws
+    table prints) and the base of its freezing degree days, else :data:`LAW_LABELS`."""
+    attrs = getattr(laws[key], "attrs", {}) or {}
+    label = str(attrs.get("label", LAW_LABELS[key]))
+    base = attrs.get("base_temperature_degC")
+    if base is None:
+        return label
+    b = float(base)
+    return f"{label}, base {b:g} \u00b0C" if round(b, 1) == b else f"{label}, base {b:.2f} \u00b0C"
+
+
 def _set_run_xlim(ax, x: np.ndarray) -> None:
     if x.size > 1 and x[-1] > x[0]:
         ax.set_xlim(x[0], x[-1])
@@ -336,9 +383,13 @@ def plot_sections(
     """Depth-time sections of temperature, bulk salinity, liquid fraction, brine salinity.
 
     Each output time is a column spanning the midpoints to its neighbours and
-    its own layer bounds (``depth_bounds``).  Colour limits are the range of
-    the drawn field.  ``thermistor`` (time, depth, temperature) and ``core``
-    (time, depth, salinity) points are overlaid with the same colour scale.
+    its own layer bounds (``depth_bounds``).  Snow on the ice (``snow_thickness``) is a
+    hatched band above the ice surface (negative depths).  Colour limits are the
+    :data:`ROBUST_PERCENTILES` of the interior ice (layers with a liquid fraction up to the
+    run's ``[output] load_bearing_liquid_fraction``), so the porous bottom and slush do not
+    set the scale; the colour bars have arrows where values lie beyond.  ``thermistor``
+    (time, depth, temperature) and ``core`` (time, depth, salinity) points are overlaid with
+    the same colour scale.
     """
     check_output_dataset(ds, _source(ds), SECTION_VARIABLES)
     d = _member0(ds)
@@ -354,38 +405,63 @@ def plot_sections(
     if core is not None:
         overlay["bulk_salinity"] = ("ice core", _points(core, "salinity", "ice core"), "s")
 
+    snow = None
+    if "snow_thickness" in d.variables:
+        snow = np.asarray(d["snow_thickness"].values, dtype=float)
+        if not (np.isfinite(snow) & (snow > 0)).any():
+            snow = None
+    phi = d["liquid_fraction"].transpose("time", "layer").values.astype(float)
+    interior_limit = _interior_fraction(ds)
+    interior = np.isfinite(phi) & (phi <= interior_limit)
+
     fig = Figure(figsize=(9.0, 10.0), layout="constrained")
     axes = fig.subplots(len(FIELDS), 1, sharex=True, sharey=True)
     depth_units = _units(d["depth_bounds"], "m")
+    x_steps = np.repeat(edges, 2)[1:-1]
     for ax, (name, short, cmap) in zip(axes, FIELDS):
         da = d[name].transpose("time", "layer")
         vals = da.values.astype(float)
-        vmin, vmax = _field_limits(vals)
+        vmin, vmax, extend = _robust_limits(vals, interior)
         X, Y, C = _moving_mesh(edges, bounds, vals)
         mesh = ax.pcolormesh(X, Y, C, cmap=cmap, vmin=vmin, vmax=vmax, shading="flat",
                              rasterized=True, gid=f"section:{name}")
         if vmin == vmax:  # constant field: keep the limits, widen only the drawing norm
             mesh.norm.vmin, mesh.norm.vmax = vmin - 0.5, vmax + 0.5
         # the base follows the column edges, so it sits exactly on the mesh bottom
-        ax.plot(np.repeat(edges, 2)[1:-1], np.repeat(base, 2), color="black", linewidth=1.2,
+        ax.plot(x_steps, np.repeat(base, 2), color="black", linewidth=1.2,
                 label="ice base", gid="ice_base")
+        handles = []
+        if snow is not None:  # snow on the ice: a band above the ice surface (depth 0)
+            band = ax.fill_between(x_steps, -np.repeat(np.nan_to_num(snow), 2), 0.0,
+                                   facecolor="#e8eef5", edgecolor="0.45", linewidth=0.6, hatch="..",
+                                   label="snow", gid="snow")
+            if ax is axes[0]:
+                handles.append(band)
         if name in overlay:
             label, (px, pd, pv), marker = overlay[name]
-            ax.scatter(px, pd, c=pv, cmap=cmap, norm=mesh.norm, marker=marker, s=28,
-                       edgecolors="black", linewidths=0.6, label=label, zorder=3,
-                       gid=f"points:{label}")
-            ax.legend(loc="lower left", fontsize="small", framealpha=0.9)
-        cbar = fig.colorbar(mesh, ax=ax, pad=0.01, aspect=12)
+            handles.append(ax.scatter(px, pd, c=pv, cmap=cmap, norm=mesh.norm, marker=marker, s=28,
+                                      edgecolors="black", linewidths=0.6, label=label, zorder=3,
+                                      gid=f"points:{label}"))
+        if handles:
+            ax.legend(handles=handles, loc="lower left", fontsize="small", framealpha=0.9)
+        cbar = fig.colorbar(mesh, ax=ax, pad=0.01, aspect=12, extend=extend)
         cbar.set_label(_label(short, _units(da, "")))
         ax.set_title(str(da.attrs.get("long_name", short)), loc="left", fontsize="medium")
         ax.set_ylabel(_label("depth below ice surface", depth_units))
         _date_axis(ax)
     finite_base = base[np.isfinite(base)]
     ymax = float(finite_base.max()) * 1.05 if finite_base.size and finite_base.max() > 0 else 1.0
-    axes[0].set_ylim(ymax, 0.0)  # shared y: depth increases downward on every panel
+    top = -1.1 * float(np.nanmax(snow)) if snow is not None else 0.0
+    axes[0].set_ylim(ymax, top)  # shared y: depth increases downward on every panel, snow above 0
+    if snow is not None:
+        for ax in axes:
+            ax.axhline(0.0, color="0.45", linewidth=0.6)
     axes[0].set_xlim(edges[0], edges[-1])
     axes[-1].set_xlabel("time")
     fig.suptitle(_title(ds, "Ice column sections", title, depth_resolved=True))
+    fig.supxlabel(f"colour scales: {ROBUST_PERCENTILES[0]:g}\u2013{ROBUST_PERCENTILES[1]:g} % of the interior ice "
+                  f"(liquid fraction \u2264 {interior_limit:g}: the porous bottom and slush left out); arrows: "
+                  "values beyond", fontsize="x-small", color="0.3")
     return fig
 
 
@@ -513,8 +589,13 @@ def plot_profiles(ds: xr.Dataset, dates: Sequence[Any] | None, title: str | None
     return fig
 
 
+def _saver(fig: Figure, fmt: str, dpi: int = 150):
+    """``write(path)`` saving ``fig`` in ``fmt`` (for the atomic writers of :mod:`icecolumn.textfile`)."""
+    return lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi)
+
+
 def _save_atomic(fig: Figure, path: Path, fmt: str, dpi: int = 150) -> Path:
-    return write_atomically(path, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi), suffix=f".{fmt}")
+    return write_atomically(path, _saver(fig, fmt, dpi), suffix=f".{fmt}")
 
 
 def plot_run(
@@ -527,27 +608,33 @@ def plot_run(
     thermistor: xr.Dataset | Mapping[str, Any] | None = None,
     core: xr.Dataset | Mapping[str, Any] | None = None,
     title: str | None = None,
+    overwrite: bool = True,
 ) -> list[Path]:
     """Write thickness, sections, salt and profiles figures into ``outdir``.
 
-    Each file is saved under a temporary name in ``outdir`` and then renamed,
-    so a reader never sees a half-written figure.  Returns the written paths.
+    All four figures are drawn first and then written all or none
+    (:func:`icecolumn.textfile.write_files_atomically`: temporary names in ``outdir``, then
+    renamed), so a reader never sees a half-written figure and a failure leaves no new
+    file.  An existing figure is replaced unless ``overwrite`` is False (then it is an
+    :class:`InputError` before anything is written).  Returns the written paths.
     """
     fmt = str(fmt).lower().lstrip(".")
     if fmt not in FORMATS:
         raise InputError(f"figure format {fmt!r} is not one of {', '.join(FORMATS)}")
     check_output_dataset(ds, _source(ds), OUTPUT_VARIABLES)
     out = Path(outdir)
+    if out.is_dir():  # refuse before drawing
+        for name in FIGURE_NAMES:
+            check_new_output(out / f"{name}.{fmt}", overwrite)
+    figures = (plot_thickness(ds, laws=laws, obs=obs, title=title),
+               plot_sections(ds, thermistor=thermistor, core=core, title=title),
+               plot_salt(ds, title=title),
+               plot_profiles(ds, profiles, title=title))
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise InputError(f"{out}: cannot create figure directory ({exc.strerror})") from None
     if not out.is_dir():
         raise InputError(f"{out}: not a directory")
-    figures = [
-        ("thickness", plot_thickness(ds, laws=laws, obs=obs, title=title)),
-        ("sections", plot_sections(ds, thermistor=thermistor, core=core, title=title)),
-        ("salt", plot_salt(ds, title=title)),
-        ("profiles", plot_profiles(ds, profiles, title=title)),
-    ]
-    return [_save_atomic(fig, out / f"{name}.{fmt}", fmt) for name, fig in figures]
+    files = {out / f"{name}.{fmt}": _saver(fig, fmt) for name, fig in zip(FIGURE_NAMES, figures)}
+    return write_files_atomically(files, overwrite=overwrite)

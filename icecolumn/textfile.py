@@ -9,23 +9,28 @@ One helper per job:
   floats, naming the line and column of the first bad cell;
 * :func:`output_path` and :func:`check_new_output`: where an output goes, and the refusal
   to replace an existing file without ``--overwrite``;
-* :func:`write_atomically` / :func:`write_text_atomically`: an output is written under a
-  temporary name beside its target and renamed into place, so no partial file is left.
+* :func:`write_atomically` / :func:`write_text_atomically` / :func:`write_files_atomically`: an
+  output (or several, all or none) is written under a temporary name beside its target and
+  renamed into place, so no partial file is left; outputs get the user's usual permissions
+  (0o666 less the umask) and write errors name the user's path, never the temporary file.
 """
 from __future__ import annotations
 
 import csv
+import errno
 import os
+import re
+import shutil
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
+from .errors import IceColumnError, InputError
 
 __all__ = ["read_user_bytes", "read_user_text", "CsvTable", "read_csv", "output_path", "check_new_output",
-           "write_atomically", "write_text_atomically"]
+           "write_atomically", "write_text_atomically", "write_files_atomically"]
 
 
 def read_user_bytes(path, what: str) -> bytes:
@@ -111,7 +116,8 @@ def cell_numbers(name: str, col: str, texts: list[str], lines, *, nonnegative_un
             try:
                 values[i] = float(t)
             except (ValueError, OverflowError):
-                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number") from None
+                raise InputError(f"{name}: line {lines[i]}: column {col!r}: {t!r} is not a number"
+                                 f"{_decimal_comma_hint(t)}") from None
     bad = ~np.isfinite(values) & ~empty
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
@@ -120,6 +126,31 @@ def cell_numbers(name: str, col: str, texts: list[str], lines, *, nonnegative_un
         i = int(np.flatnonzero(values < 0)[0])
         raise InputError(f"{name}: line {lines[i]}: column {col!r}: {values[i]:g} {nonnegative_unit} is negative")
     return values
+
+
+_DECIMAL_COMMA = re.compile(r"[+-]?[0-9]+,[0-9]+")
+#: Field separators other than the comma that a header may have been written with.
+_OTHER_SEPARATORS = ((";", "semicolons"), ("\t", "tabs"), ("|", "vertical bars"))
+
+
+def _decimal_comma_hint(text: str) -> str:
+    """`` (a decimal comma? ...)`` when ``text`` is a number written with a decimal comma."""
+    if _DECIMAL_COMMA.fullmatch(text.strip()):
+        return f" (a decimal comma? write numbers with a decimal point, e.g. {text.strip().replace(',', '.')})"
+    return ""
+
+
+def _separator_hint(cells: list[str]) -> str:
+    """A hint when a line's fields look split by something else than the comma: one field
+    holding semicolons or tabs, or more fields than the header because of decimal commas."""
+    if len(cells) == 1:
+        for sep, what in _OTHER_SEPARATORS:
+            if len([c for c in cells[0].split(sep) if c.strip()]) >= 2:
+                return f" (fields must be separated by commas; this line seems to use {what})"
+    pairs = zip(cells[:-1], cells[1:])
+    if any(re.fullmatch(r"[+-]?[0-9]+", a.strip()) and re.fullmatch(r"[0-9]+", b.strip()) for a, b in pairs):
+        return " (decimal commas? write numbers with a decimal point, e.g. -20.5, and separate fields by commas)"
+    return ""
 
 
 def _cells(line: str, name: str, no: int) -> list[str]:
@@ -141,7 +172,9 @@ def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") 
     :class:`InputError` line naming the file and the physical line: not UTF-8, malformed
     CSV, a header column without a name or named twice, a row with a different number of
     fields than the header, an empty file (``expected``, e.g. ``"time, ice_thickness"``,
-    is added to that message) and a file without ``rows_name`` after the header.
+    is added to that message) and a file without ``rows_name`` after the header.  A header
+    of one column holding semicolons or tabs, and rows with extra fields from decimal commas,
+    get a hint in their message.
     """
     name = str(path)
     text, raw = read_user_text(path, what)
@@ -160,6 +193,9 @@ def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") 
             continue
         cells = [c.strip() for c in _cells(line.rstrip("\r"), name, no)]
         if header is None:
+            hint = _separator_hint(cells) if len(cells) == 1 else ""
+            if hint:
+                raise InputError(f"{name}: line {no}: the header has one column {cells[0]!r}{hint}")
             for j, col in enumerate(cells):
                 if not col:
                     raise InputError(f"{name}: line {no}: column {j + 1} of the header has no name")
@@ -168,8 +204,9 @@ def read_csv(path, what: str, expected: str = "", rows_name: str = "data rows") 
             header, header_line = cells, no
             continue
         if len(cells) != len(header):
+            hint = _separator_hint(cells) if len(cells) > len(header) or len(cells) == 1 else ""
             raise InputError(f"{name}: line {no}: expected {len(header)} fields as in the header "
-                             f"(line {header_line}), found {len(cells)}")
+                             f"(line {header_line}), found {len(cells)}{hint}")
         lines.append(no)
         rows.append(cells)
     if header is None:
@@ -207,31 +244,142 @@ def check_new_output(path, overwrite: bool = False) -> Path:
     return folder
 
 
-def write_atomically(path, write, suffix: str = ".tmp") -> Path:
-    """Call ``write(temporary_path)`` on a temporary file beside ``path``, flush it to disk and
-    rename it to ``path``; on any failure the temporary file is removed and nothing is left
-    behind (an existing ``path`` is untouched)."""
-    path = Path(path)
+def _user_permissions(path) -> None:
+    """Give ``path`` the permissions a file created normally gets (0o666 less the umask);
+    :func:`tempfile.mkstemp` makes its files private (0o600)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(path, 0o666 & ~umask)
+
+
+#: Below this much free space in the output's folder, a failed write says the disk may be full.
+_LOW_DISK_BYTES = 64 * 2**20
+
+
+def _disk_hint(folder: Path) -> str:
+    try:
+        free = shutil.disk_usage(folder).free
+    except OSError:
+        return ""
+    return f" (the disk may be full: {free / 2**20:.1f} MB free in {folder})" if free < _LOW_DISK_BYTES else ""
+
+
+def _named_for_user(err: Exception, tmp: str, path: Path) -> Exception | None:
+    """An error of writing the temporary file ``tmp`` restated for the user's ``path``, or None to
+    re-raise ``err`` as it is.
+
+    * An :class:`OSError` about the temporary file or about no file (e.g. "No space left on
+      device" while writing) keeps its errno (and so its subclass, e.g. :class:`PermissionError`)
+      with ``path`` as its file name.  One about another file is left as it is.
+    * An error of the NetCDF library (a :class:`RuntimeError` whose text starts ``NetCDF:``) or
+      any other error whose text names the temporary file becomes one
+      :class:`~icecolumn.errors.IceColumnError` line ``<path>: cannot write: <its text, the
+      temporary name replaced by path>``.
+
+    A hint that the disk may be full is added when the folder has little free space left.
+    """
+    tmp_name = os.path.basename(tmp)
+    folder = path.parent if str(path.parent) else Path(".")
+
+    def for_user(text: str) -> str:
+        return " ".join(text.replace(tmp, str(path)).replace(tmp_name, path.name).split())
+
+    text = str(err)
+    if isinstance(err, OSError):
+        if err.filename is not None and tmp_name not in str(err.filename):
+            return None
+        reason = for_user(err.strerror or text or type(err).__name__)
+        if err.errno is None or err.errno < 0 or err.errno == errno.ENOSPC:  # a library code, or a full disk
+            reason += _disk_hint(folder)
+        return OSError(err.errno, reason, str(path))
+    netcdf = isinstance(err, RuntimeError) and text.startswith("NetCDF:")
+    if not netcdf and tmp_name not in text:
+        return None
+    return IceColumnError(f"{path}: cannot write: {for_user(text)}{_disk_hint(folder)}")
+
+
+def _write_temporary(path: Path, write, suffix: str) -> str:
+    """Write one output under a temporary name beside ``path`` (user permissions, flushed to
+    disk); returns the temporary name.  On failure nothing is left and the error names
+    ``path``, not the temporary file."""
     folder = path.parent if str(path.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix, dir=folder)
     os.close(fd)
     try:
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)  # the user's usual permissions (mkstemp makes the file private)
-        write(tmp)
+        if isinstance(write, str):
+            Path(tmp).write_text(write, encoding="utf-8", newline="\n")
+        else:
+            write(tmp)
+        _user_permissions(tmp)  # after writing: a writer may have made the file anew
         with open(tmp, "rb") as fh:
             os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
+    except BaseException as err:
         if os.path.exists(tmp):
             os.unlink(tmp)
-        raise
+        restated = _named_for_user(err, tmp, path) if isinstance(err, Exception) else None
+        if restated is None:
+            raise
+        raise restated from err
+    return tmp
+
+
+def write_atomically(path, write, suffix: str = ".tmp") -> Path:
+    """Call ``write(temporary_path)`` on a temporary file beside ``path``, flush it to disk and
+    rename it to ``path``; on any failure the temporary file is removed and nothing is left
+    behind (an existing ``path`` is untouched).
+
+    The file gets the user's usual permissions (0o666 less the umask), and an error while
+    writing names ``path``, never the temporary file.  ``write`` may also be a ``str``: the
+    text written as UTF-8.
+    """
+    path = Path(path)
+    tmp = _write_temporary(path, write, suffix)
+    try:
+        os.replace(tmp, path)
+    except BaseException as err:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        restated = _named_for_user(err, tmp, path) if isinstance(err, Exception) else None
+        if restated is None:
+            raise
+        raise restated from err
     return path
 
 
 def write_text_atomically(path, text: str, overwrite: bool = False) -> Path:
     """Write UTF-8 ``text`` to ``path`` atomically, refusing to replace a file unless ``overwrite``."""
     check_new_output(path, overwrite)
-    return write_atomically(path, lambda tmp: Path(tmp).write_text(text, encoding="utf-8", newline="\n"))
+    return write_atomically(path, text)
 
+
+def write_files_atomically(files: dict, overwrite: bool = False) -> list[Path]:
+    """Write several files all-or-nothing.
+
+    ``files`` maps each path to its content: ``str`` (UTF-8 text) or a callable
+    ``write(temporary_path)``.  Every path is checked first (an existing file without
+    ``overwrite``, a missing folder, the same path twice is an :class:`InputError`); then
+    each is written to a temporary file beside it as :func:`write_atomically` does (user
+    permissions, errors naming the user's path), and only when all succeeded are they
+    renamed into place.  On any failure the temporary files are removed and no output
+    exists that did not exist before.
+    """
+    paths = [Path(p) for p in files]
+    seen = set()
+    for p in paths:
+        key = os.path.abspath(p)
+        if key in seen:
+            raise InputError(f"{p}: the same output file twice")
+        seen.add(key)
+        check_new_output(p, overwrite)
+    temps: list[tuple[str, Path]] = []
+    try:
+        for p, content in zip(paths, files.values()):
+            temps.append((_write_temporary(p, content, ".tmp" + p.suffix), p))
+        for tmp, p in temps:
+            os.replace(tmp, p)
+        temps = []
+    finally:
+        for tmp, _ in temps:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+    return paths

@@ -84,3 +84,43 @@ def test_summary_agrees_with_dataset(run_ds):
     secs = float((run_ds.time.values[-1] - run_ds.time.values[0]) / np.timedelta64(1, "s"))
     assert s["salt_flux_mean"] == pytest.approx(s["salt_released_total"] / secs, rel=1e-15)
     assert s["start_time"] == run_ds.time.values[0] and s["end_time"] == run_ds.time.values[-1]
+
+
+def _cumulative_run(parts: dict[str, np.ndarray]) -> "xr.Dataset":
+    import xarray as xr
+
+    t = np.datetime64("2027-06-01T00:00", "ns") + np.arange(61) * np.timedelta64(1, "D")
+    released = sum(parts.values())
+    entrained = np.linspace(0.0, 1.0, t.size)
+    data = {"salt_entrained": entrained, "salt_released": released, "salt_content": 5.0 + entrained - released,
+            "salt_flux": np.full(t.size, np.nan), **parts}
+    return xr.Dataset({k: ("time", v) for k, v in data.items()}, coords={"time": t})
+
+
+def test_release_parts_add_up_to_released_with_flushing_and_surface_melt():
+    n = 61
+    parts = {"salt_released_drainage": np.linspace(0.0, 2.0, n),
+             "salt_released_melt": np.linspace(0.0, 0.5, n) ** 2,
+             "salt_released_surface_melt": np.where(np.arange(n) > 30, np.arange(n) - 30.0, 0.0) * 0.01,
+             "salt_released_flushing": np.where(np.arange(n) > 40, np.arange(n) - 40.0, 0.0) * 0.05}
+    bds = brine_budget(_cumulative_run(parts), "month")
+    total = sum(bds[name].values for name in parts)
+    np.testing.assert_allclose(total, bds["salt_released"].values, rtol=1e-13, atol=1e-15)
+    assert float(bds["salt_released_flushing"].values[-1]) > 0 and float(bds["salt_released_surface_melt"].sum()) > 0
+    lines = format_brine_budget(bds).splitlines()
+    head = lines[1]
+    for label in ("entrained", "drainage", "basal melt", "surface melt", "flushing", "released", "kept chg"):
+        assert label in head
+    # the total row: drainage + basal melt + surface melt + flushing = released
+    total_row = [line for line in lines if line.startswith("total")][0].split()
+    drainage, basal, surface, flushing, released = (float(v) for v in total_row[2:7])
+    assert drainage + basal + surface + flushing == pytest.approx(released, rel=1e-3)
+
+
+def test_older_file_without_the_new_parts_takes_them_as_zero():
+    n = 61
+    ds = _cumulative_run({"salt_released_drainage": np.linspace(0.0, 2.0, n),
+                          "salt_released_melt": np.zeros(n)})
+    bds = brine_budget(ds, "month")
+    assert float(np.abs(bds["salt_released_flushing"]).sum()) == 0.0
+    assert "salt_released_surface_melt, salt_released_flushing (taken as 0)" in bds.attrs["comment"]

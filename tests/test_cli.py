@@ -233,7 +233,7 @@ def test_progress_bar_draws_on_a_terminal_only(monkeypatch):
     for terminal in (True, False):
         stream = Terminal() if terminal else io.StringIO()
         monkeypatch.setattr(sys, "stderr", stream)
-        with progress_bar() as bar:
+        with progress_bar(batch=None) as bar:  # no compile notice: the bar only
             for i in range(1, 101):
                 bar(i, 100)
         text = stream.getvalue()
@@ -367,3 +367,13 @@ def test_demo_writes_run_table_and_figures(tmp_path):
     again = invoke("demo", "-o", out)
     assert_one_line_error(again, "station_winter.nc", "--overwrite")
     assert (out / "station_winter.nc").read_bytes() == before
+
+
+def test_laws_stefan_base_follows_the_configured_salinity(folder):
+    from icecolumn.phase import liquidus_temperature
+
+    result = invoke("laws", "forcing.csv", "--set", "ocean.salinity=6", "--set", "initial.bulk_salinity=5")
+    assert result.exit_code == 0, result.output
+    fp = float(liquidus_temperature(6.0))
+    assert f"stefan    Stefan, surface = air; base {fp:.2f} degC" in result.stdout
+    assert "anderson  Anderson (1961); base -1.8 degC, the law's published base" in result.stdout

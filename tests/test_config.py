@@ -71,7 +71,7 @@ def test_brief_defaults():
 def test_every_parameter_has_unit_column_and_description():
     for name, param in PARAMETERS.items():
         assert param.description, name
-        assert param.kind in {"int", "float", "choice", "duration", "time", "columns"}, name
+        assert param.kind in {"int", "float", "choice", "duration", "time", "columns", "text"}, name
         if param.kind in {"int", "float"}:
             assert param.unit, f"{name} needs a unit ('1' if dimensionless)"
         if param.kind == "choice":

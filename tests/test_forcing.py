@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import time
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -240,7 +241,8 @@ def test_kelvin_hint(tmp_path):
     path = write(tmp_path, simple(["2026-10-01T00:00,268.1", "2026-10-01T01:00,268.0"]))
     message = error_of(path)
     assert message == (
-        f"{path}: line 2: column 'air_temperature': 268.1 degC is outside -90..50 degC (is the file in kelvin?)"
+        f"{path}: line 2: column 'air_temperature': 268.1 degC is outside -90..50 degC (is the file in kelvin? "
+        "declare the unit in the header: 'air_temperature [K]')"
     )
 
 
@@ -576,3 +578,159 @@ def test_column_mapping_from_the_configuration(tmp_path):
     wrong.write_text('[forcing]\ncolumns = "air_temperature=T_air"\n')
     out2 = tmp_path / "r2.nc"
     assert main(["run", str(csv), "-c", str(wrong), "-o", str(out2)]) == 2 and not out2.exists()
+
+
+# ---------------------------------------------------------------- units declared in the header
+
+
+def test_header_units_are_converted_like_netcdf(tmp_path):
+    header = ("time,air_temperature [K],relative_humidity [1],snowfall [mm h-1],snow_thickness [cm],"
+              "cloud_fraction [%],wind_speed")
+    cells = ["253.15,0.85,3.6,12,50,4", "263.15,0.9,0,13.5,100,5"]
+    ds = read_forcing(write(tmp_path, table(header, cells)))
+    # 0 degC = 273.15 K (common practice, no source); mm h-1 of water = kg m-2 per 3600 s
+    np.testing.assert_allclose(ds["air_temperature"].values, [-20.0, -10.0], atol=1e-12)
+    np.testing.assert_allclose(ds["relative_humidity"].values, [85.0, 90.0])
+    np.testing.assert_allclose(ds["snowfall"].values, [1e-3, 0.0])
+    np.testing.assert_allclose(ds["snow_thickness"].values, [0.12, 0.135])
+    np.testing.assert_allclose(ds["cloud_fraction"].values, [0.5, 1.0])
+    np.testing.assert_array_equal(ds["wind_speed"].values, [4.0, 5.0])
+    assert ds["air_temperature"].attrs["units"] == "degC"
+    assert "air_temperature=air_temperature [K]" in ds.attrs["source_columns"]
+
+
+def test_header_units_use_the_netcdf_table():
+    from icecolumn.forcing import NETCDF_UNITS, UNITS, unit_conversion
+
+    assert NETCDF_UNITS is UNITS  # one conversion table for both readers
+    assert unit_conversion("air_temperature", "  K ") == (1.0, -273.15)
+    # degF -> degC: (F - 32) * 5/9 (common practice, no source): 212 degF is 100 degC, 32 degF is 0 degC
+    scale, offset = unit_conversion("air_temperature", "degF")
+    assert 212.0 * scale + offset == pytest.approx(100.0) and 32.0 * scale + offset == pytest.approx(0.0, abs=1e-12)
+    assert unit_conversion("air_temperature", "furlongs") is None
+
+
+def test_fahrenheit_header_is_converted(tmp_path):
+    ds = read_forcing(write(tmp_path, table("time,air_temperature [degF]", ["-4", "14"])))
+    np.testing.assert_allclose(ds["air_temperature"].values, [-20.0, -10.0])
+
+
+def test_unknown_header_unit_is_one_line(tmp_path):
+    path = write(tmp_path, table("time,air_temperature [F]", ["25", "26"]))
+    assert error_of(path) == (f"{path}: line 1: column 'air_temperature [F]': unit [F] is not known for "
+                              "air_temperature; declare one of [K], [degC], [degF] (no unit: degC)")
+
+
+def test_column_map_to_a_column_with_a_unit(tmp_path):
+    path = write(tmp_path, table("time,Tair [K]", ["253.15", "263.15"]))
+    for theirs in ("Tair", "Tair [K]"):
+        ds = read_forcing(path, column_map={"air_temperature": theirs})
+        np.testing.assert_allclose(ds["air_temperature"].values, [-20.0, -10.0], atol=1e-12)
+
+
+def test_same_column_with_and_without_unit(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,air_temperature [K]", ["-5,268", "-5,268"]))
+    assert "line 1: column 'air_temperature' appears twice" in error_of(path)
+
+
+def test_relative_humidity_fraction_without_unit_is_flagged(tmp_path):
+    path = write(tmp_path, table("time,air_temperature,relative_humidity", ["-5,0.85", "-5,", "-5,0.97"]))
+    message = error_of(path)
+    assert message.startswith(f"{path}: line 1: column 'relative_humidity': every value is between 0 and 1 "
+                              "(largest 0.97)")
+    assert "'relative_humidity [1]'" in message
+    ds = read_forcing(write(tmp_path, table("time,air_temperature,relative_humidity [%]", ["-5,0.85", "-5,0.97"]),
+                            "percent.csv"))  # declared: taken as it is
+    np.testing.assert_array_equal(ds["relative_humidity"].values, [0.85, 0.97])
+
+
+def test_fahrenheit_looking_temperature_is_warned(tmp_path):
+    path = write(tmp_path, table("time,air_temperature", ["25", "28", "19", "30"]))
+    with pytest.warns(ForcingWarning) as record:
+        read_forcing(path)
+    message = str(record[0].message)
+    assert message.startswith(f"{path}: column 'air_temperature': 75 % of the values are above +20 degC")
+    assert "Fahrenheit" in message and "'air_temperature [degF]'" in message
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ForcingWarning)
+        read_forcing(write(tmp_path, table("time,air_temperature [degC]", ["25", "28", "19", "30"]), "c.csv"))
+        read_forcing(write(tmp_path, table("time,air_temperature", ["-5", "28", "19", "-30"]), "cold.csv"))
+
+
+def test_fahrenheit_out_of_range_gets_a_hint(tmp_path):
+    path = write(tmp_path, table("time,air_temperature", ["25", "61"]))
+    assert error_of(path) == (f"{path}: line 3: column 'air_temperature': 61 degC is outside -90..50 degC (is the "
+                              "file in Fahrenheit? declare the unit in the header: 'air_temperature [degF]')")
+
+
+@pytest.mark.parametrize("text, fragment", [
+    ("time;air_temperature\n2026-10-01T00:00;-5,5\n", "line 1: the header has one column 'time;air_temperature' "
+                                                         "(fields must be separated by commas; this line seems to use "
+                                                         "semicolons)"),
+    ("time\tair_temperature\n2026-10-01T00:00\t-5.5\n", "seems to use tabs"),
+    ("time,air_temperature\n2026-10-01T00:00,-5,5\n2026-10-01T01:00,-6,0\n",
+     "line 2: expected 2 fields as in the header (line 1), found 3 (decimal commas? write numbers with a decimal "
+     "point"),
+    ('time,air_temperature\n2026-10-01T00:00,"-5,5"\n2026-10-01T01:00,"-6,0"\n',
+     "line 2: column 'air_temperature': '-5,5' is not a number (a decimal comma? write numbers with a decimal point, "
+     "e.g. -5.5)"),
+])
+def test_separator_and_decimal_comma_hints(tmp_path, text, fragment):
+    assert fragment in error_of(write(tmp_path, text))
+
+
+# ---------------------------------------------------------------- repeating on the calendar
+
+
+def _hourly_year(start: str, days: int):
+    t = np.datetime64(start, "ns") + np.arange(days * 24) * np.timedelta64(1, "h")
+    doy = (t - t[0]) / np.timedelta64(1, "D")
+    return forcing_from_arrays(t, -10.0 - 10.0 * np.sin(2 * np.pi * doy / days) + 0.01 * (np.arange(t.size) % 24))
+
+
+def test_repeat_keeps_the_calendar_and_adds_a_leap_day():
+    from icecolumn.forcing import repeat_forcing
+
+    f = _hourly_year("2026-09-15T00:00", 365)  # 15 Sep 2026 .. 14 Sep 2027: no 29 February
+    r = repeat_forcing(f, 3)
+    t = r["time"].values
+    assert t[0] == np.datetime64("2026-09-15T00:00") and t[-1] == np.datetime64("2029-09-14T23:00")
+    assert np.all(np.diff(t) == np.timedelta64(1, "h"))  # no gap, no overlap
+    a = r["air_temperature"]
+    for year in (2028, 2029):  # every repetition on the same calendar dates
+        for when in ("01-01T00:00", "03-01T05:00", "09-14T23:00", "02-28T12:00"):
+            assert float(a.sel(time=f"{year}-{when}")) == float(a.sel(time=f"2027-{when}"))
+    # 2028 is a leap year (Gregorian rule, common practice, no source): its 29 February is a copy of 28 February
+    leap = a.sel(time=slice("2028-02-29T00:00", "2028-02-29T23:00")).values
+    np.testing.assert_array_equal(leap, a.sel(time=slice("2027-02-28T00:00", "2027-02-28T23:00")).values)
+    assert t.size == 3 * 365 * 24 + 24
+    assert r.attrs["repeat_mode"].startswith("calendar: each repetition 1 calendar year after the one before")
+    assert "24 rows added as 29 February" in r.attrs["repeat_mode"]
+
+
+def test_repeat_leaves_out_29_february_in_a_common_year():
+    from icecolumn.forcing import repeat_forcing
+
+    f = _hourly_year("2027-09-15T00:00", 366)  # 15 Sep 2027 .. 14 Sep 2028 holds 29 Feb 2028
+    r = repeat_forcing(f, 2)
+    t = r["time"].values
+    assert t[-1] == np.datetime64("2029-09-14T23:00") and np.all(np.diff(t) == np.timedelta64(1, "h"))
+    in_feb_2029 = t.astype("datetime64[M]") == np.datetime64("2029-02", "M")
+    assert t[in_feb_2029][-1] == np.datetime64("2029-02-28T23:00")  # 2029 has no 29 February
+    assert float(r["air_temperature"].sel(time="2029-03-01T00:00")) == float(
+        f["air_temperature"].sel(time="2028-03-01T00:00"))
+    assert "24 rows of 29 February left out" in r.attrs["repeat_mode"]
+
+
+def test_repeat_of_a_part_year_is_end_to_end_with_a_warning():
+    from icecolumn.forcing import repeat_forcing
+
+    t = np.datetime64("2026-11-01T00:00", "ns") + np.arange(48) * np.timedelta64(1, "h")
+    f = forcing_from_arrays(t, np.full(t.size, -15.0))
+    with pytest.warns(ForcingWarning, match="does not cover whole calendar years"):
+        r = repeat_forcing(f, 3)
+    assert r["time"].values[-1] - r["time"].values[0] == np.timedelta64(3 * 48 - 1, "h")
+    assert r.attrs["repeat_mode"].startswith("end to end: period 2 days")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ForcingWarning)
+        assert repeat_forcing(f, 1).attrs["repeated"] == 1

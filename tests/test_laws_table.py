@@ -5,6 +5,7 @@ import os
 
 import numpy as np
 import pytest
+import xarray as xr
 
 from icecolumn import growth_laws as gl
 from icecolumn.errors import InputError
@@ -75,7 +76,7 @@ def test_stefan_form_recorded(cold_forcing):
     assert "35-50 %" in plain.attrs["stefan_form"]
     res = laws_table(*cold_forcing, surface_coefficient=20.0)
     assert res.attrs["stefan_form"] == (
-        "Stefan's law with the surface resistance 1/H of the linear surface "
+        "Stefan with surface transfer: Stefan's law with the surface resistance 1/H of the linear surface "
         "coefficient H = 20 W m-2 K-1")
     np.testing.assert_allclose(
         res["stefan"].values,
@@ -231,3 +232,99 @@ def test_sample_winter_model_within_25_percent_of_empirical_laws(sample_forcing,
     ratios = {law: h[-1] / v for law, v in ends.items()}
     print(f"model {h[-1]:.3f} m; laws {ends}; ratio to mean {h[-1] / mean:.3f}; ratios {ratios}")
     assert 0.75 <= h[-1] / mean <= 1.25
+
+
+# --------------------------------------------------------------------------- the run's base and conductivity
+
+
+def _run(cfg, temperature, liquid_fraction, scheme="linear"):
+    """A minimal one-column output: three daily times, len(temperature) layers (same profile each time)."""
+    t = np.datetime64("2024-01-01T00:00", "ns") + np.arange(3) * np.timedelta64(1, "D")
+    n = len(temperature)
+    prof = lambda v: (("time", "layer"), np.tile(np.asarray(v, float), (3, 1)))  # noqa: E731
+    return xr.Dataset({"ice_thickness": ("time", [0.3, 0.32, 0.34]),
+                       "air_temperature": ("time", [np.nan, -20.0, -20.0]),
+                       "temperature": prof(temperature), "liquid_fraction": prof(liquid_fraction),
+                       "bulk_salinity": prof([4.0] * n)},
+                      coords={"time": t, "layer": np.arange(1, n + 1)},
+                      attrs={"icecolumn_config": cfg.to_toml(), "surface_scheme": scheme, "icecolumn_version": "x"})
+
+
+def test_stefan_base_is_the_runs_freezing_point():
+    import gsw
+
+    from icecolumn.config import default_config
+    from icecolumn.laws import laws_for_run
+
+    cfg = default_config().replace("initial", bulk_salinity=5.0).replace("ocean", salinity=6.0)
+    run = _run(cfg, [-10.0, -2.0], [0.0, 0.1])
+    t = np.datetime64("2024-01-01T00:00", "ns") + np.arange(24 * 2 + 1) * np.timedelta64(1, "h")
+    table, coeff = laws_for_run(t, np.full(t.size, -20.0), run, "run.nc")
+    fp = table.attrs["base_temperature_stefan_degC"]
+    # TEOS-10 freezing temperature of 6 g/kg water at the surface, air-free (IOC, SCOR & IAPSO 2010,
+    # via gsw.CT_freezing): about -0.32 degC, far from the -1.8 degC of 34 g/kg sea water
+    assert fp == pytest.approx(float(gsw.CT_freezing(6.0, 0.0, 0.0)), abs=0.03)
+    assert fp > -0.4 and "[ocean] salinity 6 g/kg" in table.attrs["base_source_stefan"]
+    # the empirical laws keep their published bases (module references of icecolumn.growth_laws)
+    assert table.attrs["base_temperature_lebedev_degC"] == 0.0
+    assert table.attrs["base_temperature_anderson_degC"] == -1.8
+    assert table.attrs["base_temperature_zubov_degC"] == 0.0
+    for name in ("lebedev", "anderson", "zubov"):
+        assert table.attrs[f"base_source_{name}"] == "the law's published base"
+    assert coeff == cfg.surface.heat_transfer_coefficient
+    text = format_laws_table(table)
+    assert f"#   stefan    Stefan with surface transfer; base {fp:.2f} degC, the freezing point of the run's water" \
+        in text
+    assert "#   anderson  Anderson (1961); base -1.8 degC, the law's published base" in text
+    # one day at -20 degC: fp - (-20) = 20 + fp freezing degree days below the run's freezing point
+    assert table["fdd_stefan"].values[1] == pytest.approx(20.0 + fp, rel=1e-9)
+
+
+def test_stefan_base_without_a_run_is_the_configurations():
+    from icecolumn.config import default_config
+    from icecolumn.laws import laws_for_run
+    from icecolumn.phase import liquidus_temperature
+
+    t = np.datetime64("2024-01-01T00:00", "ns") + np.arange(25) * np.timedelta64(1, "h")
+    cfg = default_config().replace("initial", bulk_salinity=5.0).replace("ocean", salinity=6.0)
+    table, _ = laws_for_run(t, np.full(t.size, -20.0), config=cfg)
+    assert table.attrs["base_temperature_stefan_degC"] == pytest.approx(float(liquidus_temperature(6.0)))
+    assert "the configuration's water" in table.attrs["base_source_stefan"]
+    assert table.attrs["stefan_conductivity_W_m-1_K-1"] == 2.2  # no run: common practice, no source
+    const = cfg.replace("properties", conductivity_model="constant", ice_conductivity=1.9)
+    table, _ = laws_for_run(t, np.full(t.size, -20.0), config=const)
+    assert table.attrs["stefan_conductivity_W_m-1_K-1"] == 1.9
+    common, _ = laws_for_run(t, np.full(t.size, -20.0), config=cfg, base=-1.0)
+    assert all(common.attrs[f"base_temperature_{n}_degC"] == -1.0 for n in LAW_NAMES)
+
+
+def test_stefan_conductivity_is_the_runs_series_mean():
+    from icecolumn.config import default_config
+    from icecolumn.laws import run_conductivity, stefan_inputs
+
+    cfg = default_config().replace("properties", conductivity_model="parallel_yen1991")
+    # one layer of pure ice at -10 degC: Yen et al. (1991) via Eicken (2003, p. 55), 2.320 W m-1 K-1
+    assert run_conductivity(_run(cfg, [-10.0], [0.0]), cfg) == pytest.approx(2.320, abs=5e-4)
+    # two equal layers conduct in series: the harmonic mean of their conductivities (common practice,
+    # no source); k_i(-10) = 2.3199, brine k_b(-2) = 0.4184 (1.25 - 0.06 + 0.00056) (Eicken 2003, p. 55)
+    k1 = 1.16 * (1.91 + 8.66e-3 * 10 + 2.97e-5 * 100)
+    k2 = 0.5 * 0.4184 * (1.25 - 0.06 + 0.00056) + 0.5 * 1.16 * (1.91 + 8.66e-3 * 2 + 2.97e-5 * 4)
+    run = _run(cfg, [-10.0, -2.0], [0.0, 0.5])
+    assert run_conductivity(run, cfg) == pytest.approx(2.0 / (1.0 / k1 + 1.0 / k2), rel=1e-9)
+    inputs = stefan_inputs(run, "run.nc")
+    assert inputs.conductivity == pytest.approx(2.0 / (1.0 / k1 + 1.0 / k2), rel=1e-9)
+    assert "harmonic mean over the layers" in inputs.conductivity_note
+    constant = cfg.replace("properties", conductivity_model="constant", ice_conductivity=1.7)
+    assert run_conductivity(_run(constant, [-10.0, -2.0], [0.0, 0.5]), constant) == pytest.approx(1.7)
+
+
+def test_stefan_labels_say_which_form():
+    from icecolumn.laws import STEFAN_LABELS
+
+    t = np.datetime64("2024-01-01T00:00", "ns") + np.arange(49) * np.timedelta64(1, "h")
+    plain = laws_table(t, np.full(t.size, -20.0))
+    transfer = laws_table(t, np.full(t.size, -20.0), surface_coefficient=10.0)
+    assert plain["stefan"].attrs["label"] == STEFAN_LABELS["plain"] == "Stefan, surface = air"
+    assert transfer["stefan"].attrs["label"] == STEFAN_LABELS["transfer"] == "Stefan with surface transfer"
+    assert "Stefan, surface = air; base -1.8 degC" in format_laws_table(plain)
+    assert "Stefan with surface transfer; base -1.8 degC" in format_laws_table(transfer)

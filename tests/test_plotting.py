@@ -134,19 +134,30 @@ def test_laws_without_known_variables_rejected(ds):
 # --------------------------------------------------------------------------- sections
 
 
-def test_sections_colour_limits_equal_data_range(ds):
+def _interior_limits(values, phi, limit=0.2):
+    """2-98 % of the cells with a liquid fraction up to ``limit`` (default [output]
+    load_bearing_liquid_fraction): the section colour limits."""
+    use = np.isfinite(values) & np.isfinite(phi) & (phi <= limit)
+    return tuple(np.percentile(values[use], [2.0, 98.0]))
+
+
+def test_sections_colour_limits_are_robust_over_the_interior_ice(ds):
     fig = plotting.plot_sections(ds)
     _save(fig, "test_sections.png")
     axes = _data_axes(fig)
     assert len(axes) == 4
+    phi = ds["liquid_fraction"].values
     for ax, (name, short, cmap) in zip(axes, plotting.FIELDS):
         (mesh,) = [c for c in ax.collections if isinstance(c, QuadMesh)]
         assert mesh.get_gid() == f"section:{name}"
         vals = ds[name].values
+        lo, hi = _interior_limits(vals, phi)
         assert mesh.colorbar is not None
-        assert mesh.colorbar.vmin == pytest.approx(np.nanmin(vals))
-        assert mesh.colorbar.vmax == pytest.approx(np.nanmax(vals))
-        assert mesh.get_clim() == pytest.approx((np.nanmin(vals), np.nanmax(vals)))
+        assert (mesh.colorbar.vmin, mesh.colorbar.vmax) == pytest.approx((lo, hi))
+        assert mesh.get_clim() == pytest.approx((lo, hi))
+        below, above = (vals < lo).any(), (vals > hi).any()
+        assert mesh.colorbar.extend == {(False, False): "neither", (True, False): "min", (False, True): "max",
+                                        (True, True): "both"}[(below, above)]
         assert mesh.get_cmap().name == cmap
         assert cmap in ("viridis", "cividis", "magma", "plasma")
         label = mesh.colorbar.ax.get_ylabel()
@@ -156,6 +167,36 @@ def test_sections_colour_limits_equal_data_range(ds):
             assert "(" in label and ")" in label
         assert ax.yaxis_inverted()
         assert ax.get_ylabel() == "depth below ice surface (m)"
+    assert "interior ice" in fig.get_supxlabel()
+
+
+def test_sections_porous_bottom_does_not_set_the_scale(ds):
+    ds = ds.copy(deep=True)
+    ref = plotting.plot_sections(ds)
+    ds["liquid_fraction"][:, -1] = 0.9  # the bottom layer: porous, very salty
+    ds["bulk_salinity"][:, -1] = 30.0
+    fig = plotting.plot_sections(ds)
+    (mesh,) = [c for c in _data_axes(fig)[1].collections if isinstance(c, QuadMesh)]
+    (before,) = [c for c in _data_axes(ref)[1].collections if isinstance(c, QuadMesh)]
+    assert mesh.colorbar.vmax < 30.0 and mesh.colorbar.extend in ("max", "both")
+    assert mesh.colorbar.vmax <= before.colorbar.vmax + 1e-12
+
+
+def test_sections_show_snow_above_the_ice_surface(ds):
+    fig = plotting.plot_sections(ds)
+    snow = ds["snow_thickness"].values
+    for ax in _data_axes(fig):
+        (band,) = [c for c in ax.collections if c.get_gid() == "snow"]
+        tops = band.get_paths()[0].vertices[:, 1]
+        assert tops.min() == pytest.approx(-snow.max()) and tops.max() == pytest.approx(0.0)
+        assert ax.get_ylim()[1] == pytest.approx(-1.1 * snow.max())
+    legend = [t.get_text() for t in _data_axes(fig)[0].get_legend().get_texts()]
+    assert legend == ["snow"]
+    no_snow = ds.copy()
+    no_snow["snow_thickness"] = no_snow["snow_thickness"] * 0.0
+    fig = plotting.plot_sections(no_snow)
+    assert not [c for c in _data_axes(fig)[0].collections if c.get_gid() == "snow"]
+    assert _data_axes(fig)[0].get_ylim()[1] == 0.0
 
 
 def test_sections_mesh_follows_moving_layer_bounds(ds):
@@ -184,7 +225,8 @@ def test_sections_mesh_follows_moving_layer_bounds(ds):
     lo, hi = ax.get_xlim()
     assert lo == pytest.approx(edges[0]) and hi == pytest.approx(edges[-1])
     ylo, yhi = ax.get_ylim()
-    assert yhi == 0.0 and ylo >= ds["ice_thickness"].values.max()
+    assert yhi == pytest.approx(-1.1 * ds["snow_thickness"].values.max())  # the snow band above the ice
+    assert ylo >= ds["ice_thickness"].values.max()
 
 
 def test_sections_nan_cells_excluded_from_limits(ds):
@@ -194,8 +236,10 @@ def test_sections_nan_cells_excluded_from_limits(ds):
     ds["bulk_salinity"][5, 3] = 99.0
     fig = plotting.plot_sections(ds)
     mesh = [c for c in _data_axes(fig)[1].collections if isinstance(c, QuadMesh)][0]
-    assert mesh.colorbar.vmax == pytest.approx(99.0)
-    assert mesh.colorbar.vmin == pytest.approx(np.nanmin(ds["bulk_salinity"].values))
+    lo, hi = _interior_limits(ds["bulk_salinity"].values, ds["liquid_fraction"].values)
+    assert np.isfinite([lo, hi]).all()
+    assert (mesh.colorbar.vmin, mesh.colorbar.vmax) == pytest.approx((lo, hi))
+    assert hi < 99.0 and mesh.colorbar.extend in ("max", "both")  # one outlier does not set the scale
     assert np.isfinite(mesh.get_coordinates()).all()
 
 
@@ -306,8 +350,8 @@ def test_ensemble_salt_band_and_member0_sections(ens):
     assert "member 0" in fig.get_suptitle()
     mesh = [c for c in _data_axes(fig)[0].collections if isinstance(c, QuadMesh)][0]
     m0 = ens["temperature"].isel(member=0).values
-    assert mesh.colorbar.vmin == pytest.approx(m0.min())
-    assert mesh.colorbar.vmax == pytest.approx(m0.max())
+    lo, hi = _interior_limits(m0, ens["liquid_fraction"].isel(member=0).values)
+    assert (mesh.colorbar.vmin, mesh.colorbar.vmax) == pytest.approx((lo, hi))
     fig = plotting.plot_profiles(ens, ["2024-01-10"])
     (line,) = _gid_lines(fig.axes[0], "profile:temperature")
     np.testing.assert_allclose(line.get_xdata(), m0[9])
@@ -349,3 +393,16 @@ def test_plots_refuse_a_dataset_without_their_variables(ds):
     broken = ds.drop_vars("brine_salinity")
     with pytest.raises(InputError, match="brine_salinity"):
         plotting.plot_sections(broken)
+
+
+def test_thickness_legend_names_the_laws_as_the_table_does(ds):
+    from icecolumn.laws import laws_table
+
+    t = ds["time"].values
+    table = laws_table(t, np.full(t.size, -20.0), surface_coefficient=10.0, freezing_point=-0.32)
+    fig = plotting.plot_thickness(ds, laws=table)
+    legend = [x.get_text() for x in fig.axes[0].get_legend().get_texts()]
+    assert "Stefan with surface transfer, base -0.32 \u00b0C" in legend
+    assert "Anderson (1961), base -1.8 \u00b0C" in legend and "Lebedev (1938), base 0 \u00b0C" in legend
+    plain = plotting.plot_thickness(ds, laws=laws_table(t, np.full(t.size, -20.0)))
+    assert "Stefan, surface = air, base -1.8 \u00b0C" in [x.get_text() for x in plain.axes[0].get_legend().get_texts()]

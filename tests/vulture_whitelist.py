@@ -31,6 +31,9 @@ _.saturation_vapour_pressure  # surface.py, tests/test_surface.py
 _.transfer_coefficient  # surface.py, tests/test_surface.py
 _.covariance  # calibrate.CalibrationResult, tests/test_calibrate.py
 
+# Python's warnings module calls warnings.showwarning to print each warning.
+_.showwarning  # icecolumn/cli_common.py, warnings_as_lines
+
 # numba's cache machinery calls the locator's stamp and reads the dispatcher's cache object.
 _.get_source_stamp  # icecolumn/_jit.py, called by numba.core.caching
 _._cache  # icecolumn/_jit.py, numba.core.dispatcher.Dispatcher._cache

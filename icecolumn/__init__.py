@@ -9,13 +9,38 @@ Public API::
     ic.write_netcdf(ds, "run.nc")
 
 A model estimate is not a measurement: drill and measure; follow local ice-safety rules.
-"""
-from ._version import __version__
-from .config import Config, default_config, load_config
-from .errors import IceColumnError, InputError
-from .forcing import read_forcing
-from .model import Member, run, run_ensemble
-from .output import CAUTION, to_dataset, write_netcdf
 
-__all__ = ["__version__", "Config", "default_config", "load_config", "IceColumnError", "InputError",
-           "read_forcing", "run", "run_ensemble", "Member", "to_dataset", "write_netcdf", "CAUTION"]
+The names are imported on first use (PEP 562), so that ``import icecolumn.kernel`` needs only
+numpy and numba (the install compiles the kernel with nothing else).
+"""
+from __future__ import annotations
+
+import importlib
+
+from ._version import __version__
+
+#: Public name -> module that defines it.
+_API = {
+    "Config": ".config", "default_config": ".config", "load_config": ".config",
+    "IceColumnError": ".errors", "InputError": ".errors",
+    "read_forcing": ".forcing", "forcing_from_arrays": ".forcing",
+    "Member": ".model", "InitialProfile": ".model", "run": ".model", "run_ensemble": ".model",
+    "CAUTION": ".output", "to_dataset": ".output", "write_netcdf": ".output",
+}
+
+__all__ = ["__version__", *_API]
+
+
+def __getattr__(name: str):
+    if name in _API:
+        value = getattr(importlib.import_module(_API[name], __name__), name)
+        globals()[name] = value
+        return value
+    try:  # a submodule, e.g. icecolumn.phase
+        return importlib.import_module(f".{name}", __name__)
+    except ModuleNotFoundError:
+        raise AttributeError(f"module 'icecolumn' has no attribute {name!r}") from None
+
+
+def __dir__():
+    return sorted(set(globals()) | set(__all__))

@@ -58,3 +58,13 @@ def test_edit_of_a_helper_module_recompiles_its_callers(tmp_path):
     surface.write_text(text.replace("STEFAN_BOLTZMANN = 5.670374e-8", "STEFAN_BOLTZMANN = 2 * 5.670374e-8"))
     changed = _longwave(root)
     assert changed == 2.0 * first  # recompiled with the new constant, not the stale cache entry
+
+
+def test_warmup_compiles_every_entry_point():
+    # the package build runs this once (_build/icecolumn_build.py); afterwards no run compiles
+    from icecolumn.kernel import needs_compile
+    from icecolumn.kernel.warmup import compile_kernel
+
+    assert compile_kernel(batch=True) >= 0.0
+    assert not needs_compile(batch=False) and not needs_compile(batch=True)
+    assert K.diagnose.signatures

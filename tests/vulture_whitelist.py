@@ -37,3 +37,7 @@ _.showwarning  # icecolumn/cli_common.py, warnings_as_lines
 # numba's cache machinery calls the locator's stamp and reads the dispatcher's cache object.
 _.get_source_stamp  # icecolumn/_jit.py, called by numba.core.caching
 _._cache  # icecolumn/_jit.py, numba.core.dispatcher.Dispatcher._cache
+
+# PEP 562 module hooks of icecolumn/__init__.py, called by Python on attribute access and dir().
+__getattr__  # icecolumn/__init__.py
+__dir__  # icecolumn/__init__.py

@@ -235,6 +235,9 @@ def _interval_mean(ft, fv, t):
 #: in one go, so a restarted run is bitwise identical.
 TIME_EPOCH = np.datetime64("1970-01-01T00:00:00", "ns")
 
+#: Pieces a run with a progress callback is cut into (one kernel call each).
+PROGRESS_PIECES = 100
+
 
 def _seconds(times) -> np.ndarray:
     """Seconds since :data:`TIME_EPOCH` as float64."""
@@ -313,64 +316,34 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
             ts0 = _steady_surface_temperature(m.config, air0)
         ys[i] = initial_state(m.config, ts0, prof)
     nt = times.size
-    state = np.empty((nm, nt, ys.shape[1]))
-    shp = (nm, nt, n)
-    temp = np.empty(shp)
-    phi = np.empty(shp)
-    sbr = np.empty(shp)
-    sal = np.empty(shp)
-    kc = np.empty((nm, n))
-    tsurf = np.empty((nm, nt))
-    hdot = np.empty(nm)
-    status = np.zeros(nm, np.int64)
-    counters = np.zeros((nm, 3), np.int64)
-    tmp = [np.empty((nm, n)) for _ in range(4)]
-    tsv = np.empty(nm)
-    ra_now = np.empty((nm, n))
-    wb_now = np.empty(nm)
-    rayleigh = np.empty(shp)
-    melt_now = np.empty(nm)
-    snow_now = np.empty(nm)
-    melt_energy = np.empty((nm, nt))
-    snow_depth = np.empty((nm, nt))
-
-    def record(it):
-        state[:, it] = ys
-        K.diagnose(ys, n, pars, ft, forc, tsec[it], tmp[0], tmp[1], tmp[2], tmp[3], kc, tsv, hdot,
-                   ra_now, wb_now, melt_now, snow_now)
-        rayleigh[:, it] = ra_now
-        melt_energy[:, it] = melt_now
-        snow_depth[:, it] = snow_now
-        temp[:, it] = tmp[0]
-        phi[:, it] = tmp[1]
-        sbr[:, it] = tmp[2]
-        sal[:, it] = tmp[3]
-        tsurf[:, it] = tsv
-
-    # a batch spreads its members over threads; one column stays on the serial kernel
-    step = K.advance_parallel if nm > 1 else K.advance
-    record(0)
-    for it in range(1, nt):
-        step(ys, tsec[it - 1], tsec[it], n, pars, ft, forc, status, counters)
-        if status.any():
-            bad = int(np.flatnonzero(status)[0])
+    rec = K.new_records(nm, nt, n, ys.shape[1])
+    K.record(ys, tsec, 0, n, pars, ft, forc, rec)
+    # a batch spreads its members over threads (each runs its whole period on one thread); the
+    # period is cut into pieces only to report progress
+    parallel = nm > 1
+    pieces = min(nt - 1, PROGRESS_PIECES) if progress is not None else 1
+    edges = np.unique(np.linspace(0, nt - 1, pieces + 1).round().astype(int))
+    for i0, i1 in zip(edges[:-1], edges[1:]):
+        K.run(ys, tsec, int(i0), int(i1), n, pars, ft, forc, rec, parallel)
+        if rec.status.any():
+            bad = int(np.flatnonzero(rec.status)[0])
+            it = int(rec.fail[bad])
             raise IceColumnError(
                 f"solver failed for member {bad} between {str(times[it - 1])[:19]} and "
-                f"{str(times[it])[:19]} ({K.STATUS_MESSAGES.get(int(status[bad]), 'unknown status')}); "
+                f"{str(times[it])[:19]} ({K.STATUS_MESSAGES.get(int(rec.status[bad]), 'unknown status')}); "
                 f"try a smaller [solver] max_step or rtol")
-        record(it)
         if progress is not None:
-            progress(it, nt - 1)
+            progress(int(i1), nt - 1)
     air_mean = np.stack([_interval_mean(ft, fa[i], tsec) for i in range(nm)])
     fq_source = ["forcing column ocean_heat_flux" if np.isfinite(fq[i]).all() else "configuration [ocean] heat_flux"
                  for i in range(nm)]
-    return RawResult(times=times, layers=n, state=state, temperature=temp, liquid_fraction=phi,
-                     brine_salinity=sbr, bulk_salinity=sal, surface_temperature=tsurf,
+    return RawResult(times=times, layers=n, state=rec.state, temperature=rec.temp, liquid_fraction=rec.phi,
+                     brine_salinity=rec.sbr, bulk_salinity=rec.sal, surface_temperature=rec.tsurf,
                      air_temperature_mean=air_mean,
                      ocean_heat_flux_source=fq_source, configs=[m.config for m in members],
-                     forcings=[m.forcing for m in members], counters=counters,
-                     extra={"surface_schemes": schemes, "rayleigh_number": rayleigh, "surface_melt_energy": melt_energy,
-                            "snow_thickness": snow_depth})
+                     forcings=[m.forcing for m in members], counters=rec.counters,
+                     extra={"surface_schemes": schemes, "rayleigh_number": rec.ra, "surface_melt_energy": rec.melt,
+                            "snow_thickness": rec.snow})
 
 
 def run(forcing: xr.Dataset, config: Config | None = None, *, progress=None,

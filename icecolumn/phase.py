@@ -121,6 +121,17 @@ def _mush_enthalpy(t, s, rho, c_s, c_l, latent):
 
 
 @jit
+def linear_liquidus_temperature_guess(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
+    """Temperature [degC] of mush of enthalpy [J m-3] and bulk salinity [g kg-1] on the linear
+    liquidus T = -S_br / LIQUIDUS_ALPHA (the tangent of the rational liquidus at 0 degC): the
+    negative root of c_s T^2 - (L + G S (c_l - c_s) + H/rho) T - G S L = 0, G = 1/alpha (closed form;
+    the first guess of the inversion)."""
+    g = 1.0 / LIQUIDUS_ALPHA
+    b = latent + g * bulk_salinity * (c_l - c_s) + enthalpy / rho
+    return (b - np.sqrt(b * b + 4.0 * c_s * g * bulk_salinity * latent)) / (2.0 * c_s)
+
+
+@jit
 def invert_enthalpy_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent):
     """Temperature, liquid fraction and brine salinity from enthalpy and bulk salinity.
 
@@ -171,6 +182,10 @@ def invert_enthalpy_guess_scalar(enthalpy, bulk_salinity, rho, c_s, c_l, latent,
     # mush: g(T) = H_mush(T, S) - h is increasing in T; root below t_hi
     t_fresh = (h / rho + latent) / c_s  # the root is never warmer than fresh ice of equal H
     t_hi = t_liq if t_liq < t_fresh else t_fresh
+    if guess != guess:
+        guess = linear_liquidus_temperature_guess(h, s, rho, c_s, c_l, latent)
+        if not guess < t_hi:
+            guess = t_hi - 1e-9 * (1.0 + abs(t_hi))
     if guess < t_hi and guess > t_hi - 200.0:
         # warm start: the lower end of the bracket is found by the iteration itself
         # (a residual <= 0 sets it); Newton steps from above move down and are accepted

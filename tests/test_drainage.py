@@ -301,10 +301,9 @@ def test_positivity_one_step(state):
     ft = np.array([0.0, 7200.0])
     forc = np.full((1, K.NFORCING, 2), np.nan)  # only air temperature given
     forc[0, K.F.AIR] = -20.0
-    status = np.zeros(1, np.int64)
-    counters = np.zeros((1, 3), np.int64)
-    K.advance(ys, 0.0, 3600.0, n, pars, ft, forc, status, counters)
-    assert status[0] == 0
+    rec = K.new_records(1, 2, n, ys.shape[1])
+    K.run(ys, np.array([0.0, 3600.0]), 0, 1, n, pars, ft, forc, rec, parallel=False)
+    assert rec.status[0] == 0
     y1 = ys[0]
     v0, v1 = K.view(y, n), K.view(y1, n)
     h1 = float(v1.thickness)

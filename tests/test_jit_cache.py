@@ -25,7 +25,7 @@ def test_stamp_covers_kernel_and_physics_helpers():
                  "kernel/stepper.py", "kernel/tendency.py", "kernel/layout.py", "_jit.py"):
         assert must in names, must
     assert "cli.py" not in names and "plotting.py" not in names  # I/O changes do not recompile
-    assert K.advance._cache._impl.locator.get_source_stamp() == _jit.source_stamp()
+    assert K.run_serial._cache._impl.locator.get_source_stamp() == _jit.source_stamp()
 
 
 SCRIPT = """
@@ -67,4 +67,4 @@ def test_warmup_compiles_every_entry_point():
 
     assert compile_kernel(batch=True) >= 0.0
     assert not needs_compile(batch=False) and not needs_compile(batch=True)
-    assert K.diagnose.signatures
+    assert K.record_initial.signatures and K.run_parallel.signatures

@@ -20,16 +20,18 @@ module                 job
 ``newton``             Newton solve of one implicit stage
 ``stepper``            TR-BDF2 with per-member step control
 ``workspace``          scratch arrays in one named tuple
-``driver``             ``advance``, ``advance_parallel``, ``diagnose``
+``driver``             ``run_serial``, ``run_parallel`` (a whole period per call), ``record_initial``;
+                       ``Records``, ``new_records``, ``record``, ``run`` (Python wrappers)
 =====================  ======================================================================
 """
 from .._jit import is_ready
-from .driver import advance, advance_parallel, diagnose
+from .driver import Records, basal_velocity_at, new_records, record, record_initial, run, run_parallel, run_serial
 from .layout import (B, F, FORCING_NAMES, NFORCING, NPAR, NSLOT, P, SLOT_INDEX, SLOTS, STATUS_MESSAGES,
                      SURFACE_CODES, StateView, state_size, view)
 from .params import parameter_row
 
-__all__ = ["advance", "advance_parallel", "diagnose", "B", "F", "P", "FORCING_NAMES", "NFORCING", "NPAR",
+__all__ = ["Records", "basal_velocity_at", "new_records", "record", "record_initial", "run", "run_parallel",
+           "run_serial", "B", "F", "P", "FORCING_NAMES", "NFORCING", "NPAR",
            "NSLOT", "SLOTS", "SLOT_INDEX", "STATUS_MESSAGES", "SURFACE_CODES", "StateView", "state_size",
            "view", "parameter_row", "needs_compile"]
 
@@ -37,4 +39,4 @@ __all__ = ["advance", "advance_parallel", "diagnose", "B", "F", "P", "FORCING_NA
 def needs_compile(batch: bool = False) -> bool:
     """True if the next run will compile the kernel first (no cached machine code yet): the
     serial kernel for one column, the threaded one for a batch."""
-    return not is_ready(advance_parallel if batch else advance)
+    return not (is_ready(run_parallel if batch else run_serial) and is_ready(record_initial))

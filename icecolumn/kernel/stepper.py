@@ -28,7 +28,7 @@ from .newton import stage_solve
 from .openwater import H_OUT, OPEN_WATER_STEP, form_new_ice, melt_out, new_ice_heat, open_water_step
 from .snowice import flooding_rate
 from .tendency import error_norm, stage_rates
-from .workspace import new_workspace
+from .workspace import reset_workspace
 
 # TR-BDF2 coefficients
 _GAMMA = 2.0 - np.sqrt(2.0)
@@ -50,17 +50,18 @@ DT_MIN = 1e-4
 
 
 @jit
-def step_member(y, t0, t1, n, par_in, ft, forc, counters):
+def step_member(y, t0, t1, n, par_in, ft, forc, counters, ws):
     """Advance one member's state from t0 to t1 [s] in place. Returns a status code.
 
     ``counters`` accumulates accepted steps [0], rejected steps [1] and Newton iterations [2]
-    (all stages, rejected steps included).
+    (all stages, rejected steps included); ``ws`` is the member's workspace
+    (:func:`.workspace.new_workspace`); the first guesses of the enthalpy inversion start afresh.
     """
     ny = y.size
     nb = 2 * n + 1
     par = par_in.copy()  # the ocean salinity follows the mixed layer, step by step
     mixed = par[P.MLD] > 0.0
-    ws = new_workspace(n, ny)
+    reset_workspace(ws)  # the interval depends on the state only (a restart is bitwise)
     f1 = ws.f1
     f2 = ws.f2
     f3 = ws.f3

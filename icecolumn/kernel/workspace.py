@@ -1,4 +1,4 @@
-"""Scratch arrays of one member's integration, in one named tuple (allocated once per call)."""
+"""Scratch arrays of one member's integration, in one named tuple (allocated once per member and run)."""
 from __future__ import annotations
 
 from collections import namedtuple
@@ -33,6 +33,15 @@ def new_workspace(n, ny):
                    np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny),
                    np.empty(ny), np.empty(ny), np.empty(ny),
                    np.empty(NFORCING), np.empty(NFORCING), np.empty(NFORCING))
-    ws.temp[:] = np.nan
-    ws.sc[0, :] = np.nan
+    reset_workspace(ws)
     return ws
+
+
+@jit
+def reset_workspace(ws):
+    """Forget what earlier calls left in ``ws``: no first guess for the enthalpy inversion
+    (``temp`` NaN), central advection weights, no held temperature derivative; an interval then
+    depends on the state only, so a restart or a different batch gives the same numbers."""
+    ws.temp[:] = np.nan
+    ws.beta[:] = 0.5
+    ws.sc[0, :] = np.nan

@@ -238,6 +238,25 @@ def _invert_array(h, s, rho, c_s, c_l, latent, t, phi, sbr):
         t[i], phi[i], sbr[i], _, _ = invert_enthalpy_scalar(h[i], s[i], rho, c_s, c_l, latent)
 
 
+@jit
+def _brine_salinity_array(t, out):
+    for i in range(t.size):
+        out[i] = brine_salinity_scalar(t[i])
+
+
+@jit
+def _liquidus_temperature_array(s, out):
+    for i in range(s.size):
+        out[i] = liquidus_temperature_scalar(s[i])
+
+
+def _elementwise(kernel, values):
+    x = np.asarray(values, dtype=np.float64)
+    out = np.empty(x.shape)
+    kernel(x.ravel(), out.reshape(-1))  # out is C-contiguous: reshape(-1) is a view
+    return out
+
+
 # ----------------------------------------------------------------------------------------
 # public vectorised wrappers
 
@@ -255,9 +274,7 @@ def brine_salinity(temperature):
     ndarray
         Brine salinity (0 at and above 0 degC). [g kg-1]
     """
-    t = np.asarray(temperature, dtype=float)
-    out = np.vectorize(brine_salinity_scalar, otypes=[float])(t)
-    return out
+    return _elementwise(_brine_salinity_array, temperature)
 
 
 def liquidus_temperature(brine_salinity):
@@ -273,8 +290,7 @@ def liquidus_temperature(brine_salinity):
     ndarray
         Freezing temperature. [degC]
     """
-    s = np.asarray(brine_salinity, dtype=float)
-    return np.vectorize(liquidus_temperature_scalar, otypes=[float])(s)
+    return _elementwise(_liquidus_temperature_array, brine_salinity)
 
 
 def enthalpy(temperature, liquid_fraction, density=ICE_DENSITY, ice_specific_heat=ICE_SPECIFIC_HEAT,

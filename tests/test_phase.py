@@ -155,8 +155,8 @@ def test_liquid_fraction_vs_frankenstein_garner(s, t_lo, t_hi, bound):
 
 
 def test_enthalpy_by_hand_at_minus5_S5():
-    # Hand arithmetic with the model's own S_br(-5 degC) (PHYSICS.md section 4 uses a linear
-    # liquidus and a solid reference, so its number is not comparable): H = rho[(phi c_l +
+    # Hand arithmetic with the model's own S_br(-5 degC) (a linear-liquidus value with a solid
+    # reference state would not be comparable): H = rho[(phi c_l +
     # (1 - phi) c_s) T - (1 - phi) L], phi = S / S_br.
     sbr = float(brine_salinity(-5.0))
     assert sbr == pytest.approx(85.62, abs=0.01)  # value of the project's fitted liquidus

@@ -4,7 +4,7 @@ Reference: one-phase Stefan problem, Carslaw & Jaeger (1959, Conduction of Heat 
 pp. 287-288; as quoted in Crank 1984, Free and Moving Boundary Problems, p. 103):
 h = 2 lambda sqrt(kappa t), lambda exp(lambda^2) erf(lambda) = St / sqrt(pi), St = c dT / L,
 kappa = k / (rho c).  With k = 2.2, rho = 917, c = 2100, L = 334000, dT = 10 K:
-lambda = 0.175491 and h(30 d) = 0.6040 m (PHYSICS.md section 10, derived; recomputed here).
+lambda = 0.175491 and h(30 d) = 0.6040 m (derived from that transcendental equation; recomputed here).
 """
 
 from __future__ import annotations
@@ -73,7 +73,8 @@ def default_run():
 
 
 def test_neumann_lambda():
-    # PHYSICS.md section 10 table (derived from Carslaw & Jaeger 1959): lambda = 0.175491, h(30 d) = 0.6040 m
+    # Derived from Carslaw & Jaeger (1959, pp. 287-288) by solving the transcendental equation above:
+    # lambda = 0.175491, h(30 d) = 0.6040 m
     assert LAMBDA == pytest.approx(0.175491, abs=1e-6)
     assert float(neumann_thickness(30.0)) == pytest.approx(0.6040, abs=5e-5)
 

@@ -92,7 +92,7 @@ def run_serial(ys, tsec, i0, i1, n, pars, ft, forc, status, fail, counters, stat
     ys : (members, state) float64;  pars : (members, NPAR);  ft : (ntimes,) forcing times [s];
     forc : (members, NFORCING, ntimes) forcing (``F`` rows; NaN where absent);
     status, fail : (members,) int64 out (``layout.STATUS_*`` and the failed output index);
-    counters : (members, 3) int64 accumulated;  state : (members, times, state);
+    counters : (members, 4) int64 accumulated;  state : (members, times, state);
     temp, phi, sbr, sal, ra : (members, times, layers);  tsurf, melt, snow : (members, times).
     """
     for m in range(ys.shape[0]):
@@ -137,9 +137,10 @@ def basal_velocity_at(ys, n, pars, ft, forc, t, out):
 
 
 #: What a run records, member by member: ``status``/``fail`` (members,) int64 (status code and the
-#: failed output index, -1 if none), ``counters`` (members, 3) accepted/rejected steps and Newton
-#: iterations, ``state`` (members, times, state), layer profiles ``temp`` [degC], ``phi`` [1],
-#: ``sbr`` and ``sal`` [g kg-1], ``ra`` [1] (members, times, layers), and ``tsurf`` [degC],
+#: failed output index, -1 if none), ``counters`` (members, 4) accepted/rejected steps, Newton
+#: iterations and implicit stage solves, ``state`` (members, times, state), layer profiles
+#: ``temp`` [degC], ``phi`` [1], ``sbr`` and ``sal`` [g kg-1], ``ra`` [1] (members, times, layers),
+#: and ``tsurf`` [degC],
 #: ``melt`` [W m-2], ``snow`` [m] (members, times).
 Records = namedtuple("Records", ["status", "fail", "counters", "state", "temp", "phi", "sbr", "sal", "ra",
                                  "tsurf", "melt", "snow"])
@@ -148,7 +149,7 @@ Records = namedtuple("Records", ["status", "fail", "counters", "state", "temp", 
 def new_records(members: int, times: int, n: int, state_length: int) -> Records:
     """Empty :data:`Records` of a run (status 0, counters 0)."""
     prof = (members, times, n)
-    return Records(np.zeros(members, np.int64), np.full(members, -1, np.int64), np.zeros((members, 3), np.int64),
+    return Records(np.zeros(members, np.int64), np.full(members, -1, np.int64), np.zeros((members, 4), np.int64),
                    np.empty((members, times, state_length)), np.empty(prof), np.empty(prof), np.empty(prof),
                    np.empty(prof), np.empty(prof), np.empty((members, times)), np.empty((members, times)),
                    np.empty((members, times)))

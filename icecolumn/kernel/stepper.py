@@ -53,8 +53,9 @@ DT_MIN = 1e-4
 def step_member(y, t0, t1, n, par_in, ft, forc, counters, ws):
     """Advance one member's state from t0 to t1 [s] in place. Returns a status code.
 
-    ``counters`` accumulates accepted steps [0], rejected steps [1] and Newton iterations [2]
-    (all stages, rejected steps included); ``ws`` is the member's workspace
+    ``counters`` accumulates accepted steps [0], rejected steps [1], Newton iterations [2]
+    (all stages, rejected steps included) and implicit stage solves [3] (the same stages; a
+    diagnostic only, so [2] / [3] is the mean Newton iterations per stage); ``ws`` is the member's workspace
     (:func:`.workspace.new_workspace`); the first guesses of the enthalpy inversion start afresh.
     """
     ny = y.size
@@ -129,6 +130,7 @@ def step_member(y, t0, t1, n, par_in, ft, forc, counters, ws):
             y2[2 * n] = y[2 * n]
         ok, nit = stage_solve(y2, base, _D * dt, n, par, fv2, fw2, f2, ws, NEWTON_MAXIT, a_in, af)
         counters[2] += nit
+        counters[3] += 1
         if ok:
             stage_rates(y2, n, par, fv2, fw2, f2, ws, a_in, af)
             for i in range(ny):
@@ -138,6 +140,7 @@ def step_member(y, t0, t1, n, par_in, ft, forc, counters, ws):
                 y3[2 * n] = y2[2 * n]
             ok, nit = stage_solve(y3, base, _D * dt, n, par, fv3, fw3, f3, ws, NEWTON_MAXIT, a_in, af)
             counters[2] += nit
+            counters[3] += 1
         if not ok:
             dt *= 0.25
             counters[1] += 1

@@ -31,8 +31,8 @@ Schemes (``[drainage] scheme``):
 ``griewank_notz2013``
     Griewank & Notz (2013, JGR Oceans 118, 3370-3386; volume and pages from memory):
     brine mass flux leaving layer k, :math:`\alpha (Ra_k - Ra_c)_+ \Delta z_k`, with
-    ``alpha = 1.56e-3 kg m-3 s-1`` and ``Ra_c = 4.89`` (published, from memory as quoted in
-    the project's reference card; not verified against the paper), calibrated with a
+    ``alpha = 1.56e-3 kg m-3 s-1`` and ``Ra_c = 4.89`` (published values as remembered;
+    not verified against the paper), calibrated with a
     Freitag-type permeability and the minimum permeability to the base.
     **Calibration by this project:** the mush self-regulates to Ra close to Ra_c, so Ra_c,
     not alpha, sets the salinity the ice keeps.  With this model's Rayleigh number (its

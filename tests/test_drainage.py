@@ -49,7 +49,7 @@ def _mean_s(ds):
 
 # --------------------------------------------------------------------------- Rayleigh number
 def test_rayleigh_number_hand_check():
-    # PHYSICS.md 6a check (derived there from formulas tagged from memory: Ra form of Notz & Worster
+    # Hand check (derived from formulas tagged from memory: Ra form of Notz & Worster
     # 2008, JGR 113, C03001; permeability laws of Golden et al. 2007, GRL 34, L16501, and Freitag 1999,
     # PhD thesis, Bremen): 5 cm above the base, S_br = 55.6, phi = 0.144, kappa = 1.2e-7, mu = 1.9e-3.
     g, kappa, mu, h = 9.81, 1.2e-7, 1.9e-3, 0.05
@@ -66,15 +66,15 @@ def test_rayleigh_number_hand_check():
             assert round(ra, 2) == printed
         else:
             # The printed 3.32 is not reproduced at its digits: with drho = 17.28 the formula gives
-            # 3.330 (3.315 with the rounded drho = 17.2 printed in PHYSICS.md 6a). Checked to 0.5 %.
+            # 3.330 (3.315 with a rounded drho = 17.2). Checked to 0.5 %.
             assert ra == pytest.approx(printed, rel=5e-3)
 
 
 @pytest.mark.parametrize("phi, golden, freitag", [(0.05, 3.75e-12, 1.85e-12), (0.1, 3.00e-11, 1.58e-11),
                                                   (0.2, 2.40e-10, 1.36e-10)])
 def test_permeability_laws(phi, golden, freitag):
-    # PHYSICS.md section 5 table: Golden et al. (2007, GRL 34, L16501) 3e-8 phi^3 (fit from memory);
-    # Freitag (1999, PhD thesis, Bremen) 1e-17 (1e3 phi)^3.1 (from memory; values derived there).
+    # Golden et al. (2007, GRL 34, L16501) 3e-8 phi^3 (fit from memory);
+    # Freitag (1999, PhD thesis, Bremen) 1e-17 (1e3 phi)^3.1 (from memory; values derived by hand).
     # Printed at 3 significant digits: half a unit in the last digit.
     pg = float(D.permeability(phi, "golden2007"))
     pf = float(D.permeability(phi, "freitag1999"))
@@ -133,7 +133,7 @@ def test_bulk_salinity_vs_thickness(scheme_runs):
 @pytest.mark.parametrize("scheme", SCHEMES)
 def test_c_shaped_profile(scheme_runs, scheme):
     # C shape: top 10 cm mean >= interior minimum + 1 g/kg, bottom 5 cm excluded (common practice,
-    # no source). PHYSICS.md 8 (Meereisportal "Sea-ice desalination"): first-year ice is C-shaped.
+    # no source): first-year ice is C-shaped (Cox & Weeks 1974, J. Glaciol. 13(67), 109; from memory).
     ds = scheme_runs[scheme]
     prof = ds["bulk_salinity"].values[-1]
     depth = ds["depth"].values[-1]
@@ -166,7 +166,7 @@ def test_salinity_converges_with_layers(winter_forcing, scheme_runs):
 # --------------------------------------------------------------------------- salt flux
 def test_thin_ice_salt_flux(thin_ice_run):
     # Brine rejection by growing thin ice: 6.4e-6 - 1.5e-5 kg m-2 s-1, nearly thickness-independent to
-    # 15 cm (Wakatsuchi & Ono 1983, JGR; attribution from memory, values as quoted in PHYSICS.md 6g);
+    # 15 cm (Wakatsuchi & Ono 1983, JGR 88(C5); attribution and values from memory);
     # accepted within a factor 2: [3.2e-6, 3.0e-5].
     ds = thin_ice_run
     h = ds["ice_thickness"].values
@@ -189,7 +189,7 @@ def test_thin_ice_salt_flux(thin_ice_run):
 
 
 def test_season_salt_released_vs_growth(scheme_runs):
-    # Budget relation (PHYSICS.md 6g, derived): ocean salt gain = salt of sea water taken up - change of
+    # Budget relation (derived here from salt conservation): ocean salt gain = salt of sea water taken up - change of
     # salt kept = int rho (dh/dt) S_w / 1000 dt - d(rho h S_mean / 1000).  The simple form
     # F = rho_i (S_w - S_ice) dh/dt / 1000 drops the desalination of the ice already formed,
     # -rho h dS_mean/dt / 1000; both are computed from the model's own 6-hourly output.
@@ -209,7 +209,7 @@ def test_season_salt_released_vs_growth(scheme_runs):
 
 
 def test_season_salt_released_vs_end_of_season_salinity(scheme_runs):
-    # Season-long form of the simple budget (PHYSICS.md 6g, derived): with S_ice the depth-mean
+    # Season-long form of the simple budget (derived here): with S_ice the depth-mean
     # salinity the ice *keeps* at the end of the season, salt released = rho_i (S_w - S_ice) dh
     # integrated over the season, plus the salt of the initial ice that was lost.  (With the
     # instantaneous mean instead, the integral omits the later desalination of ice already
@@ -224,7 +224,7 @@ def test_season_salt_released_vs_end_of_season_salinity(scheme_runs):
 
 
 def test_freshwater_flux(thin_ice_run):
-    # Hand calculation (PHYSICS.md 6g style, derived): 1 cm/day growth, S_ice = 10, S_w = 34:
+    # Hand calculation (derived here from mass conservation): 1 cm/day growth, S_ice = 10, S_w = 34:
     # F = -rho_i (dh/dt)(1 - S_ice/1000).
     hand = -917.0 * (0.01 / 86400.0) * (1.0 - 10.0 / 1000.0)
     # the output's definition: F = -d(rho h - salt_content)/dt; for ice of constant S the salt content

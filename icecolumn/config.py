@@ -494,6 +494,11 @@ class SnowSection(_Section):
         "hydrostatic", "", "snow-ice formation: hydrostatic (sea water floods the snow base while the freeboard is "
         "negative) or none", "choice", choices=FLOODING_CHOICES)
     flooding_timescale: str = setting("1D", "", "time over which flooding restores zero freeboard", "duration")
+    snow_ice_drainage_timescale: str = setting(
+        "2D", "", "e-folding time of the brine exchange of snow-ice with the ocean through the flooding pathways "
+        "(brine out, sea water in) while the snow-ice is permeable; a very long time (e.g. 100000D) switches it "
+        "off (a model choice, see "
+        "docs/validation_drainage.md)", "duration")
 
 
 @dataclass(frozen=True)
@@ -534,6 +539,10 @@ class OutputSection(_Section):
     load_bearing_liquid_fraction: float = setting(
         0.2, "1", "load_bearing_thickness counts only ice whose liquid fraction is at most this (flexural strength "
         "falls to about a sixth of cold ice at 0.2: Timco & O'Brien 1994)", "float", 0.0, 1.0, True)
+    core_bottom_exclusion: float = setting(
+        0.05, "m", "ice_bulk_salinity leaves out the bottom this many metres of the ice (the skeletal, porous bottom "
+        "that drains or breaks off when a core is pulled; common practice, no source), never more than half the "
+        "thickness", "float", 0.0, 1.0)
 
 
 @dataclass(frozen=True)

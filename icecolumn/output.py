@@ -47,6 +47,24 @@ def _interval_rate(cum: np.ndarray, tsec: np.ndarray) -> np.ndarray:
     return out
 
 
+def core_bulk_salinity(bulk_salinity, interface_depth, exclusion):
+    """Depth-mean bulk salinity [g kg-1] without the bottom ``exclusion`` [m] of the ice.
+
+    ``bulk_salinity`` (..., n) on equal layers of ``interface_depth`` (...) [m]; layers whose centre is
+    deeper than ``h - min(exclusion, h/2)`` are left out (cores lose the skeletal bottom; common
+    practice, no source).  NaN where ``h <= 0``.
+    """
+    s = np.asarray(bulk_salinity, dtype=float)
+    h = np.asarray(interface_depth, dtype=float)
+    n = s.shape[-1]
+    centre = (np.arange(n) + 0.5) / n
+    with np.errstate(invalid="ignore", divide="ignore"):
+        keep_frac = 1.0 - np.minimum(np.asarray(exclusion, dtype=float) / np.where(h > 0, h, np.nan), 0.5)
+        keep = centre <= keep_frac[..., None]
+        out = np.sum(np.where(keep, s, 0.0), axis=-1) / np.sum(keep, axis=-1)
+    return np.where(h > 0, out, np.nan)
+
+
 def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     """Build the CF Dataset from a :class:`icecolumn.model.RawResult`.
 
@@ -110,6 +128,15 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                    _attrs("m", "thickness of ice with a liquid fraction of at most "
                                                "[output] load_bearing_liquid_fraction",
                                           comment="a model estimate, not a measurement: " + CAUTION))
+    cut = np.array([c.output.core_bottom_exclusion for c in raw.configs], dtype=float)
+    v["ice_bulk_salinity"] = (dims_t, core_bulk_salinity(raw.bulk_salinity, h, cut[:, None]),
+                              _attrs("g kg-1", "depth-mean bulk salinity of the ice as a core measures it",
+                                     comment="mean of bulk_salinity over the layers whose centre lies above "
+                                             "interface_depth minus [output] core_bottom_exclusion (the skeletal, "
+                                             "porous bottom is left out, as it drains or is lost when a core is "
+                                             "pulled), never leaving out more than the bottom half of the ice; "
+                                             "NaN in open water",
+                                     core_bottom_exclusion_m=float(cut[0])))
     v["snow_thickness"] = (dims_t, snow, _attrs("m", "snow thickness on the ice", "surface_snow_thickness"))
     v["surface_temperature"] = (dims_t, raw.surface_temperature,
                                 _attrs("degC", "temperature of the upper (snow or ice) surface",
@@ -150,7 +177,11 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                                  comment="sum of salt_released_drainage, _melt, _surface_melt and _flushing; a brine "
                                          "exchange counts as brine out minus ocean water in"))
     v["salt_released_drainage"] = (dims_t, s_drain,
-                                   _attrs("kg m-2", f"net salt released by gravity drainage, {cum}"))
+                                   _attrs("kg m-2", f"net salt released by gravity drainage and the snow-ice brine exchange, {cum}"))
+    v["salt_released_snow_ice_drainage"] = (
+        dims_t, slot("salt_snow_ice_drainage"),
+        _attrs("kg m-2", f"net salt released from snow-ice by its brine exchange with the ocean, {cum}",
+               comment="already part of salt_released_drainage (never add the two)"))
     v["salt_released_melt"] = (dims_t, s_melt, _attrs("kg m-2", f"salt released by basal melt, {cum}"))
     v["salt_flux"] = (dims_t, _interval_rate(salt_released, tsec),
                       _attrs("kg m-2 s-1", "net salt flux from the ice base into the ocean",
@@ -281,6 +312,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         "ice_thickness_definition": THICKNESS_DEFINITION,
         "surface_scheme": "; ".join(sorted(set(raw.extra.get("surface_schemes", [cfg0.surface.scheme])))),
         "drainage_scheme": cfg0.drainage.scheme,
+        **drainage_attributes(cfg0),
         "solver_steps_accepted": int(raw.counters[:, 0].sum()),
         "solver_steps_rejected": int(raw.counters[:, 1].sum()),
         "solver_newton_iterations": int(raw.counters[:, 2].sum()),
@@ -289,6 +321,24 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     if not keep_member and nm == 1:
         ds = ds.isel(member=0, drop=True)
     return ds
+
+
+def drainage_attributes(cfg) -> dict:
+    """The drainage constants a run used (scheme defaults resolved), as global attributes."""
+    from .drainage import BRINE_DENSITY_SLOPE, BRINE_THERMAL_DIFFUSIVITY, BRINE_VISCOSITY, scheme_settings
+    d = scheme_settings(cfg)
+    return {
+        "drainage_critical_rayleigh": float(d["critical_rayleigh"]),
+        "drainage_flux_coefficient": float(d["flux_coefficient"]),
+        "drainage_permeability": str(d["permeability"]),
+        "drainage_permeability_averaging": "minimum" if d["averaging"] == 0 else "harmonic_mean",
+        "drainage_percolation_threshold": float(d["percolation_threshold"]),
+        "drainage_onset_smoothing": float(d["onset_smoothing"]),
+        "drainage_brine_viscosity": BRINE_VISCOSITY,
+        "drainage_brine_thermal_diffusivity": BRINE_THERMAL_DIFFUSIVITY,
+        "drainage_brine_density_slope": BRINE_DENSITY_SLOPE,
+        "snow_ice_drainage_timescale_s": float(cfg.snow.snow_ice_drainage_timescale_seconds),
+    }
 
 
 def write_netcdf(ds: xr.Dataset, path, overwrite: bool = False) -> Path:

@@ -49,9 +49,10 @@ def _mean_s(ds):
 
 # --------------------------------------------------------------------------- Rayleigh number
 def test_rayleigh_number_hand_check():
-    # Hand check (derived from formulas tagged from memory: Ra form of Notz & Worster
-    # 2008, JGR 113, C03001; permeability laws of Golden et al. 2007, GRL 34, L16501, and Freitag 1999,
-    # PhD thesis, Bremen): 5 cm above the base, S_br = 55.6, phi = 0.144, kappa = 1.2e-7, mu = 1.9e-3.
+    # Hand check derived in this test from the Ra form of Notz & Worster (2008, JGR 113, C03001; from
+    # memory) and the permeability laws of Golden et al. (2007, GRL 34, L16501) and Freitag (1999, PhD
+    # thesis, Bremen), both from memory: 5 cm above the base, S_br = 55.6, phi = 0.144, kappa = 1.2e-7,
+    # mu = 1.9e-3; "printed" are the values of this hand calculation rounded to 3 digits.
     g, kappa, mu, h = 9.81, 1.2e-7, 1.9e-3, 0.05
     drho = 0.8 * (55.6 - 34.0)  # 17.28 kg m-3
     for law, perm, printed in (("golden2007", 3e-8 * 0.144 ** 3, 3.32),
@@ -65,16 +66,16 @@ def test_rayleigh_number_hand_check():
         if law == "freitag1999":
             assert round(ra, 2) == printed
         else:
-            # The printed 3.32 is not reproduced at its digits: with drho = 17.28 the formula gives
-            # 3.330 (3.315 with a rounded drho = 17.2). Checked to 0.5 %.
+            # 3.32 is the hand value with drho rounded to 17.2 (3.315); with drho = 17.28 the formula
+            # gives 3.330. Checked to 0.5 %.
             assert ra == pytest.approx(printed, rel=5e-3)
 
 
 @pytest.mark.parametrize("phi, golden, freitag", [(0.05, 3.75e-12, 1.85e-12), (0.1, 3.00e-11, 1.58e-11),
                                                   (0.2, 2.40e-10, 1.36e-10)])
 def test_permeability_laws(phi, golden, freitag):
-    # Golden et al. (2007, GRL 34, L16501) 3e-8 phi^3 (fit from memory);
-    # Freitag (1999, PhD thesis, Bremen) 1e-17 (1e3 phi)^3.1 (from memory; values derived by hand).
+    # Golden et al. (2007, GRL 34, L16501) 3e-8 phi^3 (fit from memory); Freitag (1999, PhD thesis,
+    # Bremen) 1e-17 (1e3 phi)^3.1 (from memory); the table values are derived in this test by hand.
     # Printed at 3 significant digits: half a unit in the last digit.
     pg = float(D.permeability(phi, "golden2007"))
     pf = float(D.permeability(phi, "freitag1999"))
@@ -109,31 +110,55 @@ def test_budgets_close_every_scheme(scheme_runs, scheme):
 
 
 # --------------------------------------------------------------------------- salinity vs thickness
-def test_bulk_salinity_vs_thickness(scheme_runs):
-    # Cox & Weeks (1974, J. Glaciol. 13(67), 109-120): S = 14.24 - 19.39 h (h <= 0.4 m),
-    # S = 7.88 - 1.59 h (h > 0.4 m); Kovacs (1996, CRREL Report 96-7): S = 4.606 + 91.603 / h_cm.
-    # NOTE: the default critical Rayleigh number (1.8) was calibrated against these two relations
-    # (icecolumn/drainage.py docstring), so this checks that calibration, not an independent validation.
+def test_porous_bottom_in_depth_mean(scheme_runs):
+    # Derived in this test: the depth mean over the whole mush (bulk_salinity.mean) includes the
+    # porous bottom, ocean-salinity-like at the interface; ice_bulk_salinity (cores, bottom 5 cm out)
+    # is fresher by a few tenths to about 2 g/kg on 0.5-1.5 m ice.  The comparison with Cox & Weeks
+    # (1974) / Kovacs (1996) on ice_bulk_salinity is in tests/validation/test_drainage_validation.py.
     ds = scheme_runs["griewank_notz2013"]
     h = ds["ice_thickness"].values
     s = _mean_s(ds)
+    core = ds["ice_bulk_salinity"].values
     assert h[0] <= 0.02
+    assert ds["ice_bulk_salinity"].attrs["core_bottom_exclusion_m"] == 0.05
     for target in (0.5, 1.0, 1.5):
         i = int(np.argmax(h >= target))
-        assert h[i] >= target
-        hh = h[i]
-        cw = 14.24 - 19.39 * hh if hh <= 0.4 else 7.88 - 1.59 * hh
-        kv = 4.606 + 91.603 / (100.0 * hh)
-        print(f"h = {hh:.3f} m: model {s[i]:.2f}, Cox & Weeks {cw:.2f}, Kovacs {kv:.2f} g/kg")
-        assert abs(s[i] - cw) <= 1.5
-        assert abs(s[i] - kv) <= 1.5
+        print(f"h = {h[i]:.3f} m: whole-mush mean {s[i]:.2f}, ice_bulk_salinity {core[i]:.2f} g/kg")
+        assert 0.2 <= s[i] - core[i] <= 2.0
+
+
+def test_resolved_drainage_constants_recorded(scheme_runs):
+    # the output records the constants the run used (scheme defaults resolved)
+    for scheme, ds in scheme_runs.items():
+        base = D.SCHEME_DEFAULTS[scheme]
+        assert ds.attrs["drainage_scheme"] == scheme
+        assert ds.attrs["drainage_critical_rayleigh"] == base["critical_rayleigh"]
+        assert ds.attrs["drainage_flux_coefficient"] == base["flux_coefficient"]
+        assert ds.attrs["drainage_permeability"] == base["permeability"]
+    ds = scheme_runs["griewank_notz2013"]
+    # Griewank & Notz (2013, JGR Oceans 118, 3370): Ra_c = 4.89 (published, from memory)
+    assert ds.attrs["drainage_critical_rayleigh"] == 4.89
+    assert ds.attrs["drainage_permeability_averaging"] == "minimum"
+
+
+def test_onset_ramp_centred():
+    # derived in this test: the smoothed (x)+ equals (x)+ outside [-w/2, w/2], is C1 and symmetric
+    # about the onset in the sense f(x) - f(-x) = x
+    w = 1.0
+    for x in (-2.0, -0.5, 0.5, 0.7, 3.0):
+        assert D.onset_ramp_scalar(x, w) == pytest.approx(max(x, 0.0), abs=1e-15)
+    for x in (0.1, 0.3, 0.45):
+        assert D.onset_ramp_scalar(x, w) - D.onset_ramp_scalar(-x, w) == pytest.approx(x, rel=1e-12)
+    assert D.onset_ramp_scalar(0.0, w) == pytest.approx(w / 8.0)
+    assert D.onset_ramp_scalar(0.3, 0.0) == 0.3
 
 
 # --------------------------------------------------------------------------- profile shape
 @pytest.mark.parametrize("scheme", SCHEMES)
 def test_c_shaped_profile(scheme_runs, scheme):
     # C shape: top 10 cm mean >= interior minimum + 1 g/kg, bottom 5 cm excluded (common practice,
-    # no source): first-year ice is C-shaped (Cox & Weeks 1974, J. Glaciol. 13(67), 109; from memory).
+    # no source). First-year ice cores are C-shaped (Malmgren 1927; Eicken 1992, JGR 97(C10), 15545;
+    # from memory).
     ds = scheme_runs[scheme]
     prof = ds["bulk_salinity"].values[-1]
     depth = ds["depth"].values[-1]
@@ -166,7 +191,7 @@ def test_salinity_converges_with_layers(winter_forcing, scheme_runs):
 # --------------------------------------------------------------------------- salt flux
 def test_thin_ice_salt_flux(thin_ice_run):
     # Brine rejection by growing thin ice: 6.4e-6 - 1.5e-5 kg m-2 s-1, nearly thickness-independent to
-    # 15 cm (Wakatsuchi & Ono 1983, JGR 88(C5); attribution and values from memory);
+    # 15 cm (Wakatsuchi & Ono 1983, JGR 88(C5), 2943; attribution and values from memory);
     # accepted within a factor 2: [3.2e-6, 3.0e-5].
     ds = thin_ice_run
     h = ds["ice_thickness"].values
@@ -189,7 +214,7 @@ def test_thin_ice_salt_flux(thin_ice_run):
 
 
 def test_season_salt_released_vs_growth(scheme_runs):
-    # Budget relation (derived here from salt conservation): ocean salt gain = salt of sea water taken up - change of
+    # Budget relation derived in this test: ocean salt gain = salt of sea water taken up - change of
     # salt kept = int rho (dh/dt) S_w / 1000 dt - d(rho h S_mean / 1000).  The simple form
     # F = rho_i (S_w - S_ice) dh/dt / 1000 drops the desalination of the ice already formed,
     # -rho h dS_mean/dt / 1000; both are computed from the model's own 6-hourly output.
@@ -209,7 +234,7 @@ def test_season_salt_released_vs_growth(scheme_runs):
 
 
 def test_season_salt_released_vs_end_of_season_salinity(scheme_runs):
-    # Season-long form of the simple budget (derived here): with S_ice the depth-mean
+    # Season-long form of the simple budget (derived in this test): with S_ice the depth-mean
     # salinity the ice *keeps* at the end of the season, salt released = rho_i (S_w - S_ice) dh
     # integrated over the season, plus the salt of the initial ice that was lost.  (With the
     # instantaneous mean instead, the integral omits the later desalination of ice already
@@ -224,7 +249,7 @@ def test_season_salt_released_vs_end_of_season_salinity(scheme_runs):
 
 
 def test_freshwater_flux(thin_ice_run):
-    # Hand calculation (derived here from mass conservation): 1 cm/day growth, S_ice = 10, S_w = 34:
+    # Hand calculation derived in this test: 1 cm/day growth, S_ice = 10, S_w = 34:
     # F = -rho_i (dh/dt)(1 - S_ice/1000).
     hand = -917.0 * (0.01 / 86400.0) * (1.0 - 10.0 / 1000.0)
     # the output's definition: F = -d(rho h - salt_content)/dt; for ice of constant S the salt content

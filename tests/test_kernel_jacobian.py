@@ -7,7 +7,7 @@ dependence of the conductivity on the state, and the dependence of the transport
 profile) on the state.  The exact parts are checked with a constant conductivity and with the
 transport coefficients held at their values of the base state (``fresh_flow=False``); the
 omitted conductivity term is checked to be small.  Regimes: growth, melt at both boundaries, gravity
-drainage, flooding (snow-ice), thin new ice just formed from open water, and the surface energy
+drainage, flooding (snow-ice), the brine exchange of snow-ice, thin new ice just formed from open water, and the surface energy
 balance.
 """
 from __future__ import annotations
@@ -18,7 +18,7 @@ import pytest
 import icecolumn as ic
 from icecolumn import kernel as K
 from icecolumn.kernel.base import basal_velocity, basal_velocity_of_state
-from icecolumn.kernel.layout import B, F, NFORCING
+from icecolumn.kernel.layout import B, F, NFORCING, P
 from icecolumn.kernel.openwater import form_new_ice, new_ice_heat
 from icecolumn.kernel.snowice import flooding_rate
 from icecolumn.kernel.tendency import dh_column, dr_column, jacobian, rhs
@@ -67,6 +67,12 @@ def _regimes():
     cfg = _cfg(surface={"scheme": "linear"})
     y = _profile_state(cfg, 0.3, -8.0, 6.0, snow=0.3)
     out["flooding"] = (cfg, "linear", y, _forcing(-15.0), 2.0, None)
+    # snow-ice brine exchange: the top 0.11 m (4.4 layers) is snow-ice, cold mush whose liquid
+    # fraction spans the C1 ramp of the percolation gate and above it
+    cfg = _cfg(surface={"scheme": "linear"})
+    y = _profile_state(cfg, 0.3, -9.0, np.linspace(4.0, 14.0, N))
+    K.view(y, N).set_slot("snow_ice_growth", 0.11)
+    out["snow_ice_drainage"] = (cfg, "linear", y, _forcing(-15.0), 2.0, 0.0)
     cfg = _cfg(surface={"scheme": "linear"})
     par = K.parameter_row(cfg, "linear")
     y = open_water_state(cfg)
@@ -170,6 +176,12 @@ def test_jacobian_matches_finite_differences(name):
         assert amelt > 0.0 and r < 0.0  # both boundaries melt
     if name == "drainage":
         assert ws.wflux[N] > 0.0  # brine drains
+    if name == "snow_ice_drainage":
+        lo, hi = par[P.DPHIC], par[P.DPHIC] + par[P.DPHIW]
+        phi = ws.phi[:5]
+        assert par[P.SITAU] > 0.0 and ((phi > lo) & (phi < hi)).any() and (phi >= hi).any(), phi
+        assert ws.sbr[:5].min() > par[P.SW]  # the exchange runs in every snow-ice layer
+        assert _eval(y, r, par, fv, fw, af, amelt)[0][2 * N + 1 + B.S_SIDRAIN] > 0.0
     J_fd, col_h_fd, col_r_fd = _finite_differences(y, r, par, fv, fw, af, amelt, ws)
     # central differences with relative steps of 1e-6 agree to about 1e-9 here
     assert _rel(J, J_fd) < 1e-7, name
@@ -249,3 +261,27 @@ def test_manufactured_uniform_field_under_grid_motion():
     np.testing.assert_allclose(f[N + 1:2 * N - 1], qm * (r - a_melt) / N, rtol=1e-9)
     assert f[2 * N] == pytest.approx(r - a_melt, rel=1e-15)
     assert f[2 * N + 1 + B.H_GROW] == r
+
+
+def test_snow_ice_exchange_derivatives_on_their_own():
+    # the exchange's terms are small beside conduction in the whole-matrix check above, so check
+    # them isolated: (with exchange) - (without) of the assembled Jacobian and of the dh column
+    # against the same difference of central finite differences
+    cfg, par, y, fv, fw, af = _setup("snow_ice_drainage")
+    off = par.copy()
+    off[P.SITAU] = 0.0
+    r, amelt, ws, J_on, col_h_on, _ = _assembled(y, par, fv, fw, af)
+    J_off, col_h_off = _assembled(y, off, fv, fw, af)[3:5]
+    fd_on = _finite_differences(y, r, par, fv, fw, af, amelt, ws)
+    fd_off = _finite_differences(y, r, off, fv, fw, af, amelt, ws)
+    dJ, dJ_fd = J_on - J_off, fd_on[0] - fd_off[0]
+    e, m = slice(0, N), slice(N, 2 * N)
+    for rows in (e, m):  # each of the four sub-blocks on its own scale (their units differ)
+        for cols in (e, m):
+            got, want = dJ[rows, cols], dJ_fd[rows, cols]
+            assert np.abs(want).max() > 0.0
+            assert np.abs(got - want).max() < 1e-5 * np.abs(want).max()
+    dc, dc_fd = col_h_on - col_h_off, fd_on[1] - fd_off[1]
+    for rows in (e, m):
+        assert np.abs(dc_fd[rows]).max() > 0.0
+        assert np.abs(dc[rows] - dc_fd[rows]).max() < 1e-5 * np.abs(dc_fd[rows]).max()

@@ -16,6 +16,7 @@ version  # icecolumn/cli.py, _root(version=...)
 # Configuration fields are read by reflection (dataclasses.fields: TOML, validation); the
 # durations are used through their parsed companions <key>_seconds.
 _.flooding_timescale
+_.snow_ice_drainage_timescale
 _.max_step
 _.initial_step
 

@@ -35,9 +35,13 @@ SLOTS = (
     ("S_ENTRAIN", "salt_entrained", "kg m-2", "salt in all sea water taken up, cumulative"),
     ("S_MELT", "salt_melt", "kg m-2", "salt released to the ocean by basal melt (and melt-out), cumulative"),
     ("S_DRAIN", "salt_drainage", "kg m-2",
-     "salt released by gravity drainage (brine out minus sea water in), cumulative"),
+     "salt released by gravity drainage and by the snow-ice brine exchange (brine out minus sea water in), "
+     "cumulative"),
     ("E_DRAIN", "energy_drainage", "J m-2",
-     "enthalpy carried by the drainage exchange (sea water in minus brine out), cumulative"),
+     "enthalpy carried by the drainage and snow-ice exchanges (sea water in minus brine out), cumulative"),
+    ("S_SIDRAIN", "salt_snow_ice_drainage", "kg m-2",
+     "the part of salt_drainage released from snow-ice by its brine exchange (a diagnostic, already in "
+     "salt_drainage; never add it again), cumulative"),
     ("V_DRAIN", "brine_volume_drained", "m", "volume of brine drained to the ocean through channels, cumulative"),
     ("S_SURFMELT", "salt_surface_melt", "kg m-2", "salt carried off by surface melt water, cumulative"),
     ("H_SURFMELT", "surface_melt", "m", "ice melted at the surface, cumulative"),
@@ -107,6 +111,7 @@ PARAMETERS = (
     ("MLD", "m", "depth of the slab ocean mixed layer (0: none)"),
     ("H0", "m", "thickness of new ice formed in open water"),
     ("FLOODTAU", "s", "relaxation time of flooding to zero freeboard (0: no flooding)"),
+    ("SITAU", "s", "e-folding time of the brine exchange of snow-ice with the ocean (0: none)"),
     ("MLTAU", "s", "restoring time of the mixed-layer salinity (0: none)"),
     ("SREF", "g kg-1", "ocean salinity the mixed layer is restored to"),
     ("ALB_SNOW", "1", "albedo of dry snow"),

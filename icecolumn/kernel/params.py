@@ -59,6 +59,7 @@ def parameter_row(cfg, surface_scheme: str | None = None) -> np.ndarray:
     p[P.MLTAU] = cfg.ocean.salinity_restoring_time * SECONDS_PER_DAY
     p[P.SREF] = cfg.ocean.salinity
     p[P.FLOODTAU] = cfg.snow.flooding_timescale_seconds if cfg.snow.flooding == "hydrostatic" else 0.0
+    p[P.SITAU] = cfg.snow.snow_ice_drainage_timescale_seconds if p[P.FLOODTAU] > 0.0 else 0.0
     d = scheme_settings(cfg)
     p[P.DALPHA] = d["flux_coefficient"]
     p[P.DRAC] = d["critical_rayleigh"]

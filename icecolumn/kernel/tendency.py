@@ -32,7 +32,8 @@ from .gravity_drainage import add_drainage_dh_column, add_drainage_sinks, add_re
     drainage_blocks
 from .layout import NSLOT, P
 from .mixedlayer import add_mixed_layer
-from .snowice import add_snow_ice
+from .snowice import add_snow_ice, add_snow_ice_drainage, add_snow_ice_drainage_dh_column, \
+    snow_ice_drainage_blocks
 from .top import add_top_budgets, add_top_dh_column, add_top_fluxes, top_flux_blocks, top_melt_blocks, top_state
 from .transport import divergence, interior_face_fluxes, transport_blocks, transport_dh_faces, transport_dr_faces, \
     upwind_weights
@@ -110,6 +111,8 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
         add_drainage_sinks(f, n, par, ws.wflux, ws.qsink, temp, ws.sbr)
     if par[P.FLUSH] > 0.0 and a > 0.0:
         add_flushing(n, par, a, temp, ws.phi, ws.sbr, f)
+    if par[P.SITAU] > 0.0:
+        add_snow_ice_drainage(f, y, n, par, ws.phi, temp, ws.sbr, ws.dtde, ws.dtdm)
     if par[P.MLD] > 0.0:
         add_mixed_layer(f, y, n, par, fv, r, anet, af, sm, s_top, snowmelt)
     return ts, df0, a, f0 - pen
@@ -144,6 +147,8 @@ def dh_column(y, r, a, amelt, n, par, g0, ws, df0, col):
         add_drainage_dh_column(col, n, par, ws.wflux, ws.qsink, ws.temp, ws.phi, ws.sbr, dtdh, h)
     if par[P.FLUSH] > 0.0 and amelt > 0.0:
         add_flushing_dh_column(col, n, par, amelt, ws.phi, ws.temp, ws.sbr, dtdh, h)
+    if par[P.SITAU] > 0.0:
+        add_snow_ice_drainage_dh_column(col, y, n, par, ws.phi, ws.temp, ws.sbr, ws.dtde, ws.dtdm)
 
 
 @jit
@@ -179,6 +184,8 @@ def jacobian(y, r, a, amelt, n, df0, a_dt, par, ws):
         drainage_blocks(n, dz, par, ws.phi, ws.temp, ws.dtde, ws.dtdm, ws.wflux, di, up)
     if par[P.FLUSH] > 0.0 and amelt > 0.0:
         flushing_blocks(n, dz, par, amelt, ws.phi, ws.temp, ws.dtde, ws.dtdm, lo, di)
+    if par[P.SITAU] > 0.0:
+        snow_ice_drainage_blocks(y, n, par, ws.phi, ws.temp, ws.sbr, ws.dtde, ws.dtdm, di)
     for k in range(n):
         for p in range(4):
             lo[k, p] = -a_dt * lo[k, p]

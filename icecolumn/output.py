@@ -65,6 +65,16 @@ def core_bulk_salinity(bulk_salinity, interface_depth, exclusion):
     return np.where(h > 0, out, np.nan)
 
 
+def _variable(drop_member: bool, dims, data, attrs=None) -> xr.Variable:
+    """An ``xr.Variable``; with ``drop_member`` the ``member`` axis (of length 1) indexed away (a view)."""
+    dims = tuple(dims)
+    if drop_member and "member" in dims:
+        i = dims.index("member")
+        data = np.asarray(data)[(slice(None),) * i + (0,)]
+        dims = dims[:i] + dims[i + 1:]
+    return xr.Variable(dims, data, attrs)
+
+
 def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     """Build the CF Dataset from a :class:`icecolumn.model.RawResult`.
 
@@ -285,16 +295,19 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                         {"units": "1", "long_name": "prognostic state vector (float64; restart data)",
                          "comment": "per layer enthalpy content [J m-2], then salt content [kg m-2], "
                                     "then thickness [m], then cumulative budget terms"})
-    ds = xr.Dataset({k: xr.Variable(*val) for k, val in v.items()},
-                    coords={"time": ("time", times, {"standard_name": "time", "long_name": "time (UTC)",
-                                                      "axis": "T"}),
-                            "layer": ("layer", np.arange(1, n + 1, dtype=np.int32),
-                                      {"long_name": "layer index, 1 at the top (layers are equal fractions of "
-                                                    "the ice thickness)", "units": "1", "axis": "Z",
-                                       "positive": "down"}),
-                            "member": ("member", np.arange(nm, dtype=np.int32), {"long_name": "ensemble member",
-                                                                                 "units": "1"})})
-    ds = ds.set_coords("depth")
+    # one member and no keep_member: build without the member dimension (views of member 0; the
+    # same Dataset as building with it and isel(member=0, drop=True), without the copying)
+    drop = not keep_member and nm == 1
+    variables = {k: _variable(drop, *val) for k, val in v.items()}
+    coords = {"time": xr.Variable("time", times, {"standard_name": "time", "long_name": "time (UTC)", "axis": "T"}),
+              "layer": xr.Variable("layer", np.arange(1, n + 1, dtype=np.int32),
+                                   {"long_name": "layer index, 1 at the top (layers are equal fractions of the ice "
+                                                 "thickness)", "units": "1", "axis": "Z", "positive": "down"})}
+    if not drop:
+        coords["member"] = xr.Variable("member", np.arange(nm, dtype=np.int32),
+                                       {"long_name": "ensemble member", "units": "1"})
+    coords["depth"] = variables.pop("depth")
+    ds = xr.Dataset(variables, coords=coords)
     cfg0 = raw.configs[0]
     forcing0 = raw.forcings[0]
     ds.attrs = {
@@ -318,8 +331,6 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         "solver_newton_iterations": int(raw.counters[:, 2].sum()),
         **cfg0.station.attributes(),  # [station] name and position, when set
     }
-    if not keep_member and nm == 1:
-        ds = ds.isel(member=0, drop=True)
     return ds
 
 

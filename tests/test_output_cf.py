@@ -133,3 +133,18 @@ def test_compliance_checker_with_open_water_and_mixed_layer(tmp_path):
     report, bad = _cf_failures(path, tmp_path / "cf.json")
     assert report["high_count"] == 0 and report["medium_count"] == 0
     assert not bad, "\n".join(bad)
+
+
+def test_single_member_dataset_is_member_zero_of_the_member_dataset(sample_forcing):
+    # to_dataset builds a one-member run without the member dimension directly (no isel copy):
+    # it must be exactly member 0 of the same run built with the dimension
+    from icecolumn.model import Member, simulate
+    from icecolumn.output import to_dataset
+    forcing = sample_forcing.isel(time=slice(0, 73))
+    raw = simulate([Member(ic.default_config().replace("grid", layers=8), forcing)])
+    single, batch = to_dataset(raw), to_dataset(raw, keep_member=True)
+    assert "member" not in single.dims and batch.sizes["member"] == 1
+    for ds in (single, batch):
+        ds.attrs.pop("history")
+    xr.testing.assert_identical(single, batch.isel(member=0, drop=True))
+    assert "depth" in single.coords and single["temperature"].dims == ("time", "layer")

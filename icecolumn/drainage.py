@@ -105,6 +105,15 @@ def percolation_gate_scalar(liquid_fraction, threshold, width):
 
 
 @jit
+def percolation_gate_derivative_scalar(liquid_fraction, threshold, width):
+    """d :func:`percolation_gate_scalar` / d liquid fraction [1]: ``6 x (1 - x) / width`` on the step."""
+    x = (liquid_fraction - threshold) / width
+    if x <= 0.0 or x >= 1.0:
+        return 0.0
+    return 6.0 * x * (1.0 - x) / width
+
+
+@jit
 def permeability_scalar(law, phi, phic, phiw):
     """Permeability [m2] of sea ice at liquid fraction ``phi`` [1].
 

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 from .._jit import jit
 from ..buoyancy import flooding_thickness_scalar, freeboard_scalar
-from ..drainage import percolation_gate_scalar
+from ..drainage import percolation_gate_derivative_scalar, percolation_gate_scalar
 from ..phase import brine_salinity_derivative_scalar, liquidus_temperature_scalar
 from .layout import B, P
 from .top import snow_depth
@@ -113,15 +113,6 @@ def _snow_ice_fraction_dh(y, n, k):
 
 
 @jit
-def _gate_derivative(phi, threshold, width):
-    """d :func:`percolation_gate_scalar` / d phi [1]."""
-    x = (phi - threshold) / width
-    if x <= 0.0 or x >= 1.0:
-        return 0.0
-    return 6.0 * x * (1.0 - x) / width
-
-
-@jit
 def snow_ice_exchange_layer(y, n, k, par, phi, temp, sbr, dtde, dtdm, want_derivatives):
     """Salt and enthalpy [kg m-2 s-1, W m-2] the snow-ice brine exchange removes from layer ``k``,
     and (if ``want_derivatives``) their derivatives with respect to the layer's enthalpy content
@@ -170,7 +161,7 @@ def snow_ice_exchange_layer(y, n, k, par, phi, temp, sbr, dtde, dtdm, want_deriv
         p_e = -phi[k] * u_e / u
         p_m = phi[k] * (1.0 / big_m - u_m / u) if big_m > 0.0 else 0.0
         p_h = -phi[k] * (1.0 / h + u_h / u)
-    gd = _gate_derivative(phi[k], par[P.DPHIC], par[P.DPHIW])
+    gd = percolation_gate_derivative_scalar(phi[k], par[P.DPHIC], par[P.DPHIW])
     a_e = w * gd * p_e / tau
     a_m = w * gd * p_m / tau
     a_h = (w * gd * p_h + gate * _snow_ice_fraction_dh(y, n, k)) / tau

@@ -553,6 +553,12 @@ class SolverSection(_Section):
     rtol: float = setting(1e-3, "1", "relative tolerance of the time integration", "float", 0.0, 0.1, True)
     max_step: str = setting("6h", "", "longest time step allowed", "duration")
     initial_step: str = setting("10min", "", "first time step tried (at most max_step)", "duration")
+    output_times: str = setting(
+        "interpolated", "", "how records are made: 'interpolated' lets steps run across output times and "
+        "interpolates each record within its step (cubic Hermite on the step's end states and rates, so budgets "
+        "still close); 'step_ends' ends a step at every output time (more steps when the output interval is "
+        "shorter than the steps; a restart from any output time then repeats the one-go run bit for bit)",
+        "choice", choices=("interpolated", "step_ends"))
 
 
 @dataclass(frozen=True)

@@ -436,8 +436,10 @@ def run_restart(forcing: xr.Dataset, config: Config, previous: xr.Dataset, *, pr
     """Continue a previous run from its last output time (same configuration).
 
     The continuation's first time is the previous file's last time, and cumulative budget
-    terms go on from their values there.  A run split in two this way is bitwise identical
-    to the run done in one go when the split time is one of the one-go run's output times.
+    terms go on from their values there.  With ``[solver] output_times = step_ends`` a run split
+    in two this way is bitwise identical to the run done in one go when the split time is one of
+    the one-go run's output times; with interpolated records (the default) the one-go run's
+    record there is an interpolation within a step, so the two agree to the integration error.
     """
     state, t0 = restart_state(previous, config, source)
     cfg = config.replace("run", start=str(np.datetime64(t0, "s")))

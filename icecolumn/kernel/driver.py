@@ -14,103 +14,92 @@ import numpy as np
 from numba import prange
 
 from .._jit import jit
-from ..phase import liquidus_temperature_scalar
 from .base import basal_velocity_of_state
-from .gravity_drainage import brine_exchange
 from .inputs import forcing_at
 from .layout import F, NFORCING, P
-from .mixedlayer import heat_to_ice, mixed_layer_state
-from .stepper import step_member
-from .tendency import intensive_state
-from .top import snow_depth, surface_flux, top_effective_temperature
-from .workspace import new_workspace
+from .mixedlayer import heat_to_ice
+from .record import record_row
+from .stepper import integrate_member
+from .workspace import new_workspace, reset_workspace
 
 
 @jit
-def diagnose_member(y, n, par_in, ft, forc, t, ws, fv, temp, phi, sbr, sal, ra):
-    """Layer temperature, liquid fraction, brine and bulk salinity and Rayleigh number of one member
-    at t into the rows ``temp`` .. ``ra``; returns the surface temperature [degC], the melt energy
-    flux at the surface [W m-2] and the snow thickness [m]."""
-    par = par_in.copy()
-    if par[P.MLD] > 0.0:
-        tw, s_ml, _tf = mixed_layer_state(y, n, par)
-        par[P.SW] = s_ml
-    else:
-        tw = liquidus_temperature_scalar(par[P.SW])
-    h = y[2 * n]
-    forcing_at(ft, forc, t, 0, par, fv)
-    if not (h > 0.0):  # open water: no profiles
-        for k in range(n):
-            temp[k] = np.nan
-            phi[k] = np.nan
-            sbr[k] = np.nan
-            sal[k] = np.nan
-            ra[k] = np.nan
-        to = fv[F.TOCEAN]
-        return (to if (to == to and par[P.MLD] <= 0.0) else tw), 0.0, 0.0
-    ws.temp[:] = np.nan  # diagnostics never depend on earlier calls
-    intensive_state(y, n, par, ws)
-    dz = h / n
-    for k in range(n):
-        temp[k] = ws.temp[k]
-        phi[k] = ws.phi[k]
-        sbr[k] = ws.sbr[k]
-        sal[k] = 1000.0 * y[n + k] / (par[P.RHO] * dz)
-    hs = snow_depth(fv, y, n)
-    _f, _d, ts, mx, _pen = surface_flux(top_effective_temperature(ws.temp[0], ws.temp[1], par[P.TMELT]),
-                                          ws.kc[0], dz, fv, par, hs)
-    brine_exchange(y, n, par, ws.phi, ws.sbr, ws.wflux, ws.qsink, ws.ra)
-    for k in range(n):
-        ra[k] = ws.ra[k]
-    return ts, mx, hs
+def _run_member(y, tsec, i0, i1, n, par, ft, forc, counters, carry_t, carry_j, guess, rows):
+    """One member over output times i0 -> i1, recording i0 + 1 .. i1 (and any later time the last
+    step ran across). Returns (status, index of a failed interval or -1).
 
-
-@jit
-def _run_member(y, tsec, i0, i1, n, par, ft, forc, counters, state, temp, phi, sbr, sal, ra, tsurf, melt, snow):
-    """One member over output times i0 -> i1, recording i0 + 1 .. i1. Returns (status, index of a
-    failed interval or -1)."""
+    Interpolated records: the integrator goes on from where the previous call left it, its time
+    ``carry_t[0]``, next output index ``carry_j[0]`` (-1: start at ``tsec[i0]``) and first guesses
+    ``guess`` of the enthalpy inversion, so a run cut into pieces (for a progress bar) takes the
+    same steps as the run done in one call.  Step ends (``[solver] output_times = step_ends``):
+    each output interval starts afresh from the recorded state (bitwise restart).
+    """
     ws = new_workspace(n, y.size)
+    wsd = new_workspace(n, y.size)
     fv = np.empty(NFORCING)
-    for it in range(i0 + 1, i1 + 1):
-        st = step_member(y, tsec[it - 1], tsec[it], n, par, ft, forc, counters, ws)
-        if st != 0:
-            return st, it
-        state[it, :] = y
-        tsurf[it], melt[it], snow[it] = diagnose_member(y, n, par, ft, forc, tsec[it], ws, fv, temp[it], phi[it],
-                                                        sbr[it], sal[it], ra[it])
+    if par[P.STEPENDS] > 0.0:
+        for it in range(i0 + 1, i1 + 1):
+            reset_workspace(ws)  # the interval depends on the recorded state only
+            st, _t, _j = integrate_member(y, tsec[it - 1], tsec, it, it, tsec[it], n, par, ft, forc, counters, ws,
+                                          wsd, fv, rows)
+            if st != 0:
+                return st, it
+        return 0, -1
+    if carry_j[0] < 0:
+        t = tsec[i0]
+        j = i0 + 1
+    else:
+        t = carry_t[0]
+        j = carry_j[0]
+        ws.temp[:] = guess
+    st, t, j = integrate_member(y, t, tsec, j, i1, tsec[tsec.size - 1], n, par, ft, forc, counters, ws, wsd, fv,
+                                rows)
+    carry_t[0] = t
+    carry_j[0] = j
+    guess[:] = ws.temp
+    if st != 0:
+        return st, j
     return 0, -1
 
 
 @jit
-def run_serial(ys, tsec, i0, i1, n, pars, ft, forc, status, fail, counters, state, temp, phi, sbr, sal, ra, tsurf,
-               melt, snow):
+def run_serial(ys, tsec, i0, i1, n, pars, ft, forc, status, fail, counters, carry_t, carry_j, guess, state, temp,
+               phi, sbr, sal, ra, tsurf, melt, snow):
     """Advance every member (rows of ``ys``, in place) over output times ``tsec[i0] .. tsec[i1]``
     [s since the model epoch], recording each time after ``i0``.
 
     Parameters
     ----------
-    ys : (members, state) float64;  pars : (members, NPAR);  ft : (ntimes,) forcing times [s];
+    ys : (members, state) float64, the integrator's states;  pars : (members, NPAR);
+    ft : (ntimes,) forcing times [s];
     forc : (members, NFORCING, ntimes) forcing (``F`` rows; NaN where absent);
     status, fail : (members,) int64 out (``layout.STATUS_*`` and the failed output index);
-    counters : (members, 4) int64 accumulated;  state : (members, times, state);
+    counters : (members, 4) int64 accumulated;
+    carry_t (members,) float64, carry_j (members,) int64 (-1 before the first call), guess
+    (members, layers): where each member's integrator stands between calls;
+    state : (members, times, state);
     temp, phi, sbr, sal, ra : (members, times, layers);  tsurf, melt, snow : (members, times).
     """
     for m in range(ys.shape[0]):
         if status[m] != 0:
             continue
-        status[m], fail[m] = _run_member(ys[m], tsec, i0, i1, n, pars[m], ft, forc[m], counters[m], state[m], temp[m],
-                                         phi[m], sbr[m], sal[m], ra[m], tsurf[m], melt[m], snow[m])
+        status[m], fail[m] = _run_member(ys[m], tsec, i0, i1, n, pars[m], ft, forc[m], counters[m],
+                                         carry_t[m:m + 1], carry_j[m:m + 1], guess[m],
+                                         (state[m], temp[m], phi[m], sbr[m], sal[m], ra[m], tsurf[m], melt[m],
+                                          snow[m]))
 
 
 @jit(parallel=True)
-def run_parallel(ys, tsec, i0, i1, n, pars, ft, forc, status, fail, counters, state, temp, phi, sbr, sal, ra, tsurf,
-                 melt, snow):
+def run_parallel(ys, tsec, i0, i1, n, pars, ft, forc, status, fail, counters, carry_t, carry_j, guess, state, temp,
+                 phi, sbr, sal, ra, tsurf, melt, snow):
     """:func:`run_serial` with the members spread over threads (numba prange): each member runs its
     whole period on one thread, so its numbers are those of :func:`run_serial`."""
     for m in prange(ys.shape[0]):
         if status[m] == 0:
-            status[m], fail[m] = _run_member(ys[m], tsec, i0, i1, n, pars[m], ft, forc[m], counters[m], state[m],
-                                             temp[m], phi[m], sbr[m], sal[m], ra[m], tsurf[m], melt[m], snow[m])
+            status[m], fail[m] = _run_member(ys[m], tsec, i0, i1, n, pars[m], ft, forc[m], counters[m],
+                                             carry_t[m:m + 1], carry_j[m:m + 1], guess[m],
+                                             (state[m], temp[m], phi[m], sbr[m], sal[m], ra[m], tsurf[m], melt[m],
+                                              snow[m]))
 
 
 @jit
@@ -119,10 +108,8 @@ def record_initial(ys, tsec, it, n, pars, ft, forc, state, temp, phi, sbr, sal, 
     ws = new_workspace(n, ys.shape[1])
     fv = np.empty(NFORCING)
     for m in range(ys.shape[0]):
-        state[m, it, :] = ys[m]
-        tsurf[m, it], melt[m, it], snow[m, it] = diagnose_member(
-            ys[m], n, pars[m], ft, forc[m], tsec[it], ws, fv, temp[m, it], phi[m, it], sbr[m, it], sal[m, it],
-            ra[m, it])
+        record_row(ys[m], it, n, pars[m], ft, forc[m], tsec[it], ws, fv,
+                   (state[m], temp[m], phi[m], sbr[m], sal[m], ra[m], tsurf[m], melt[m], snow[m]))
 
 
 @jit
@@ -142,14 +129,15 @@ def basal_velocity_at(ys, n, pars, ft, forc, t, out):
 #: ``temp`` [degC], ``phi`` [1], ``sbr`` and ``sal`` [g kg-1], ``ra`` [1] (members, times, layers),
 #: and ``tsurf`` [degC],
 #: ``melt`` [W m-2], ``snow`` [m] (members, times).
-Records = namedtuple("Records", ["status", "fail", "counters", "state", "temp", "phi", "sbr", "sal", "ra",
-                                 "tsurf", "melt", "snow"])
+Records = namedtuple("Records", ["status", "fail", "counters", "carry_t", "carry_j", "guess", "state", "temp", "phi",
+                                 "sbr", "sal", "ra", "tsurf", "melt", "snow"])
 
 
 def new_records(members: int, times: int, n: int, state_length: int) -> Records:
     """Empty :data:`Records` of a run (status 0, counters 0)."""
     prof = (members, times, n)
     return Records(np.zeros(members, np.int64), np.full(members, -1, np.int64), np.zeros((members, 4), np.int64),
+                   np.zeros(members), np.full(members, -1, np.int64), np.full((members, n), np.nan),
                    np.empty((members, times, state_length)), np.empty(prof), np.empty(prof), np.empty(prof),
                    np.empty(prof), np.empty(prof), np.empty((members, times)), np.empty((members, times)),
                    np.empty((members, times)))
@@ -165,5 +153,5 @@ def run(ys, tsec, i0, i1, n, pars, ft, forc, rec: Records, parallel: bool) -> No
     """Advance every member over output times ``tsec[i0] .. tsec[i1]`` into ``rec``, on threads
     (:func:`run_parallel`) or not (:func:`run_serial`); a member whose status is set stays put."""
     kernel = run_parallel if parallel else run_serial
-    kernel(ys, tsec, i0, i1, n, pars, ft, forc, rec.status, rec.fail, rec.counters, rec.state, rec.temp, rec.phi,
-           rec.sbr, rec.sal, rec.ra, rec.tsurf, rec.melt, rec.snow)
+    kernel(ys, tsec, i0, i1, n, pars, ft, forc, rec.status, rec.fail, rec.counters, rec.carry_t, rec.carry_j,
+           rec.guess, rec.state, rec.temp, rec.phi, rec.sbr, rec.sal, rec.ra, rec.tsurf, rec.melt, rec.snow)

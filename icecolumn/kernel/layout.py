@@ -93,6 +93,7 @@ PARAMETERS = (
     ("RTOL", "1", "relative tolerance of the time integration"),
     ("MAXDT", "s", "longest time step"),
     ("INITDT", "s", "first time step"),
+    ("STEPENDS", "code", "1: every output time ends a step ([solver] output_times = step_ends); 0: records interpolated"),
     ("DRAIN", "code", "drainage scheme (DRAINAGE_CODES; 0 none)"),
     ("TMELT", "degC", "melting point of the upper surface"),
     ("DALPHA", "scheme units", "drainage flux coefficient"),

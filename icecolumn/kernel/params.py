@@ -51,6 +51,7 @@ def parameter_row(cfg, surface_scheme: str | None = None) -> np.ndarray:
     p[P.RTOL] = cfg.solver.rtol
     p[P.MAXDT] = cfg.solver.max_step_seconds
     p[P.INITDT] = cfg.solver.initial_step_seconds
+    p[P.STEPENDS] = 1.0 if cfg.solver.output_times == "step_ends" else 0.0
     p[P.DRAIN] = DRAINAGE_CODES[cfg.drainage.scheme]
     p[P.TMELT] = SURFACE_MELTING_POINT
     p[P.WIND] = DEFAULT_WIND_SPEED

@@ -12,9 +12,16 @@ Around a step the cover's events act (:mod:`.openwater`): open water is stepped 
 until new ice forms; ice that melts below ``H_OUT`` melts out.  Quantities held over a step: the
 surface melt rate and the snow-ice formation rate (taken at the step's start), the mixed layer's
 salinity (seen by the ice) and its heat flux into the ice.  The proposed step size is kept in
-the state (slot ``DT``) and the first guesses of the enthalpy inversion are reset at every call
-(every output time), so the state written to the output file is the integrator's whole memory
-(restart is bitwise).
+the state (slot ``DT``).
+
+Records.  By default (``[solver] output_times = interpolated``) steps run across output times
+and a record inside a step is the cubic Hermite interpolant of the step's end states and rates
+(Hosea & Shampine 1996 give TR-BDF2 this dense output); it is linear in the states and rates, so
+every linear budget (energy, salt, mass and their cumulative terms) closes at a record exactly as
+it does at a step's end, and its error, O(dt^4), is below the step's own.  Only the run's end
+ends a step.  With ``step_ends`` every output time ends a step and the first guesses of the
+enthalpy inversion are reset there, so a record is the integrator's whole memory and a restart
+from any output time is bitwise the run done in one go.
 """
 from __future__ import annotations
 
@@ -27,8 +34,8 @@ from .mixedlayer import heat_to_ice, mixed_layer_state
 from .newton import stage_solve
 from .openwater import H_OUT, OPEN_WATER_STEP, form_new_ice, melt_out, new_ice_heat, open_water_step
 from .snowice import flooding_rate
+from .record import record_row
 from .tendency import error_norm, stage_rates
-from .workspace import reset_workspace
 
 # TR-BDF2 coefficients
 _GAMMA = 2.0 - np.sqrt(2.0)
@@ -50,61 +57,90 @@ DT_MIN = 1e-4
 
 
 @jit
-def step_member(y, t0, t1, n, par_in, ft, forc, counters, ws):
-    """Advance one member's state from t0 to t1 [s] in place. Returns a status code.
+def _hermite(y0, f0, y1, f1, dt, theta, out):
+    """Cubic Hermite interpolant at ``theta`` in [0, 1] of a step of length ``dt`` from state
+    ``y0`` (rates ``f0``) to ``y1`` (rates ``f1``), into ``out``."""
+    t2 = theta * theta
+    t3 = t2 * theta
+    h00 = 2.0 * t3 - 3.0 * t2 + 1.0
+    h01 = 1.0 - h00
+    h10 = (t3 - 2.0 * t2 + theta) * dt
+    h11 = (t3 - t2) * dt
+    for i in range(y0.size):
+        out[i] = h00 * y0[i] + h01 * y1[i] + h10 * f0[i] + h11 * f1[i]
 
-    ``counters`` accumulates accepted steps [0], rejected steps [1], Newton iterations [2]
-    (all stages, rejected steps included) and implicit stage solves [3] (the same stages; a
-    diagnostic only, so [2] / [3] is the mean Newton iterations per stage); ``ws`` is the member's workspace
-    (:func:`.workspace.new_workspace`); the first guesses of the enthalpy inversion start afresh.
+
+@jit
+def integrate_member(y, tc, tsec, j, jlast, tland, n, par_in, ft, forc, counters, ws, wsd, fv, rows):
+    """Advance one member's integrator from its state ``y`` at ``tc`` [s] (in place) until the
+    output times ``tsec[j] .. tsec[jlast]`` are recorded into ``rows`` (see
+    :func:`.record.record_row`); a record inside a step is interpolated, and only ``tland`` ends a
+    step (the run's end; each output time with ``[solver] output_times = step_ends``).
+
+    Returns ``(status, t, j)``: the status code, the time of the integrator's state ``y`` (past
+    ``tsec[jlast]`` when the last step ran across it) and the first output index not recorded
+    (records made beyond ``jlast`` by that step count as made).  ``counters`` accumulates
+    accepted steps [0], rejected steps [1], Newton iterations [2] (all stages, rejected steps
+    included) and implicit stage solves [3] (the same stages; a diagnostic only, so [2] / [3] is
+    the mean Newton iterations per stage); ``ws`` is the integrator's workspace
+    (:func:`.workspace.new_workspace`, whose ``temp`` holds the first guesses of the enthalpy
+    inversion), ``wsd`` one for the records' diagnostics and ``fv`` forcing scratch.
     """
     ny = y.size
     nb = 2 * n + 1
+    nrec = tsec.size
+    if jlast >= nrec:
+        jlast = nrec - 1
     par = par_in.copy()  # the ocean salinity follows the mixed layer, step by step
     mixed = par[P.MLD] > 0.0
-    reset_workspace(ws)  # the interval depends on the state only (a restart is bitwise)
     f1 = ws.f1
     f2 = ws.f2
     f3 = ws.f3
     y2 = ws.y2
     y3 = ws.y3
+    y0 = ws.y0
     base = ws.base
     fv1 = ws.fv1
     fv2 = ws.fv2
     fv3 = ws.fv3
-    t = t0
+    t = tc
     dt = y[nb + B.DT] if y[nb + B.DT] > 0.0 else par[P.INITDT]
     maxdt = par[P.MAXDT]
     idx = 0
     proposed = dt
-    while t < t1:
+    while j <= jlast:
+        tout = tsec[j]
         if mixed:
             _tw, s_ml, _tf = mixed_layer_state(y, n, par)
             par[P.SW] = s_ml
         if not (y[2 * n] > 0.0):
-            # open water
+            # open water: a 0-d budget, stepped to the next output time
             dto = OPEN_WATER_STEP if OPEN_WATER_STEP < maxdt else maxdt
-            last = t + dto >= t1 - 1e-9 * (1.0 + abs(t1))
+            last = t + dto >= tout - 1e-9 * (1.0 + abs(tout))
             if last:
-                dto = t1 - t
+                dto = tout - t
             idx = open_water_step(y, t, dto, n, par, ft, forc, idx, fv1, f1, f2, ws.ytmp)
             counters[0] += 1
-            t = t1 if last else t + dto
+            t = tout if last else t + dto
             if y[nb + B.FRAZIL] <= -new_ice_heat(par):
                 form_new_ice(y, n, par)
                 ws.temp[:] = np.nan
                 dt = par[P.INITDT]
                 proposed = dt
+            if last:
+                y[nb + B.DT] = dt if y[2 * n] > 0.0 else 0.0
+                record_row(y, j, n, par_in, ft, forc, tout, wsd, fv, rows)
+                j += 1
             continue
         if dt > maxdt:
             dt = maxdt
         last = False
         proposed = dt
-        if t + dt >= t1 - 1e-9 * (1.0 + abs(t1)):
-            dt = t1 - t
+        if t + dt >= tland - 1e-9 * (1.0 + abs(tland)):
+            dt = tland - t
             last = True
         if dt < DT_MIN:
-            return STATUS_UNDERFLOW
+            return STATUS_UNDERFLOW, t, j
         # forcing at the three stage times
         idx = forcing_at(ft, forc, t, idx, par, fv1)
         i2 = forcing_at(ft, forc, t + _GAMMA * dt, idx, par, fv2)
@@ -161,27 +197,38 @@ def step_member(y, t0, t1, n, par_in, ft, forc, counters, ws):
             continue
         # accept: explicit flux-form update from the converged stages (conservative)
         for i in range(ny):
+            y0[i] = y[i]
             y[i] = y[i] + dt * (_B1 * f1[i] + _B2 * f2[i] + _B3 * f3[i])
         counters[0] += 1
-        t = t1 if last else t + dt
+        tnew = tland if last else t + dt
+        # records the step ran across (before any melt-out at its end)
+        while j < nrec and tsec[j] < tnew:
+            _hermite(y0, f1, y, f3, dt, (tsec[j] - t) / dt, ws.yrec)
+            ws.yrec[nb + B.DT] = dt
+            record_row(ws.yrec, j, n, par_in, ft, forc, tsec[j], wsd, fv, rows)
+            j += 1
+        t = tnew
         if y[2 * n] < H_OUT and f3[2 * n] < 0.0:
             melt_out(y, n, par)
             ws.temp[:] = np.nan
             dt = par[P.INITDT]
             proposed = dt
-            continue
-        if en < 1e-10:
-            fac = GROWTH_MAX
         else:
-            fac = 0.9 * en ** (-1.0 / 3.0)
-            if fac > GROWTH_MAX:
+            if en < 1e-10:
                 fac = GROWTH_MAX
-            if fac < 0.2:
-                fac = 0.2
-        dt *= fac
-        if last and dt < proposed:
-            dt = proposed  # a step shortened to end on t1 does not shrink the next interval's first step
-    # the step size is part of the state, so a run continued from its output (restart) goes on
-    # exactly as the run done in one go
-    y[nb + B.DT] = dt if y[2 * n] > 0.0 else 0.0
-    return STATUS_OK
+            else:
+                fac = 0.9 * en ** (-1.0 / 3.0)
+                if fac > GROWTH_MAX:
+                    fac = GROWTH_MAX
+                if fac < 0.2:
+                    fac = 0.2
+            dt *= fac
+            if last and dt < proposed:
+                dt = proposed  # a step shortened to end on tland does not shrink the next one
+        # the step size is part of the state, so a run continued from its output (restart) goes on
+        # exactly as the run done in one go
+        y[nb + B.DT] = dt if y[2 * n] > 0.0 else 0.0
+        if j < nrec and tsec[j] <= t:
+            record_row(y, j, n, par_in, ft, forc, tsec[j], wsd, fv, rows)
+            j += 1
+    return STATUS_OK, t, j

@@ -13,11 +13,12 @@ from .layout import NFORCING
 #: ``ra`` per layer); upwind weights of the grid advection per interface (``beta``); face scratch ``sc`` (9, n + 1); Jacobian blocks (``lo``, ``di``, ``up``,
 #: ``work_m``, ``work_g``: (n, 4)), Newton right-hand sides ``rhs`` (3, 2n), border column
 #: ``col_r`` (2n); stage vectors of the state's length (``f1``, ``f2``, ``f3``, ``y2``, ``y3``,
-#: ``base``, ``ytmp``, ``ftmp``, ``err``); forcing at the three stage times (``fv1``..``fv3``).
+#: ``base``, ``ytmp``, ``ftmp``, ``err``, ``y0`` the state at the step's start, ``yrec`` a record
+#: interpolated within a step); forcing at the three stage times (``fv1``..``fv3``).
 Workspace = namedtuple("Workspace", [
     "temp", "phi", "sbr", "dtde", "dtdm", "kc", "wflux", "qsink", "ra", "beta", "sc",
     "lo", "di", "up", "work_m", "work_g", "rhs", "col_r",
-    "f1", "f2", "f3", "y2", "y3", "base", "ytmp", "ftmp", "err",
+    "f1", "f2", "f3", "y2", "y3", "base", "ytmp", "ftmp", "err", "y0", "yrec",
     "fv1", "fv2", "fv3"])
 
 
@@ -31,7 +32,7 @@ def new_workspace(n, ny):
                    np.empty((n, 4)), np.empty((n, 4)), np.empty((n, 4)), np.empty((n, 4)), np.empty((n, 4)),
                    np.empty((3, ncell)), np.empty(ncell),
                    np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny),
-                   np.empty(ny), np.empty(ny), np.empty(ny),
+                   np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny), np.empty(ny),
                    np.empty(NFORCING), np.empty(NFORCING), np.empty(NFORCING))
     reset_workspace(ws)
     return ws

@@ -200,5 +200,7 @@ def test_snow_ice_exchange_budgets_close(year_runs):
     assert res.max() <= 1e-9 * scale
     assert sres.max() <= 1e-9 * sscale
     assert si[-1] > 0.0
-    assert np.all(np.diff(si) >= -1e-15)
+    # records inside a step are interpolated (cubic Hermite, [solver] output_times), so a
+    # cumulative term may dip by the interpolation error between records (measured 2.8e-11 of 3.1)
+    assert np.all(np.diff(si) >= -1e-9 * si[-1])
     assert np.all(si <= ds["salt_released_drainage"].values + 1e-12)

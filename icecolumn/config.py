@@ -29,6 +29,7 @@ from __future__ import annotations
 import dataclasses
 import datetime as _dt
 import difflib
+import functools
 import math
 import re
 from dataclasses import dataclass, field
@@ -648,7 +649,7 @@ class Config:
         Loading the text again with :func:`config_from_toml_text` gives an equal
         :class:`Config`.
         """
-        return "# icecolumn configuration, fully resolved\n" + _with_unit_comments(toml_text(self.to_dict()))
+        return _toml_of(self)
 
     def replace(self, section: str, **changes: Any) -> Config:
         """A copy with some settings of one section changed (validated).
@@ -819,6 +820,12 @@ def parse_assignments(texts: list[str] | None) -> dict[str, dict[str, Any]]:
         for section, table in parse_assignment(text).items():
             merged.setdefault(section, {}).update(table)
     return merged
+
+
+@functools.lru_cache(maxsize=32)
+def _toml_of(cfg: Config) -> str:
+    """:meth:`Config.to_toml` (cached: a Config is frozen, and every output file writes its text)."""
+    return "# icecolumn configuration, fully resolved\n" + _with_unit_comments(toml_text(cfg.to_dict()))
 
 
 def parameters_markdown() -> str:

@@ -148,3 +148,28 @@ def test_single_member_dataset_is_member_zero_of_the_member_dataset(sample_forci
         ds.attrs.pop("history")
     xr.testing.assert_identical(single, batch.isel(member=0, drop=True))
     assert "depth" in single.coords and single["temperature"].dims == ("time", "layer")
+
+
+@pytest.mark.parametrize("keep_member", [False, True])
+def test_direct_dataset_construction_equals_xarrays_public_constructor(sample_forcing, monkeypatch, keep_member):
+    # output._dataset hands its consistent variables to xarray's direct constructor (the public
+    # one merges and copies them, most of a short run's fixed cost); both must give the same
+    # Dataset: variables, coordinates, indexes, dimension order and attributes
+    from icecolumn import output
+    from icecolumn.model import Member, simulate
+    forcing = sample_forcing.isel(time=slice(0, 49))
+    cfg = ic.default_config().replace("grid", layers=6)
+    raw = simulate([Member(cfg, forcing), Member(cfg.replace("ocean", heat_flux=4.0), forcing)][:1 + keep_member])
+    fast = output.to_dataset(raw, keep_member=keep_member)
+    monkeypatch.setattr(output, "DIRECT_CONSTRUCTION", False)
+    public = output.to_dataset(raw, keep_member=keep_member)
+    for ds in (fast, public):
+        ds.attrs.pop("history")
+    xr.testing.assert_identical(fast, public)
+    assert list(fast.dims) == list(public.dims)
+    assert list(fast.data_vars) == list(public.data_vars) and list(fast.coords) == list(public.coords)
+    assert set(fast.indexes) == set(public.indexes) == ({"time", "layer", "member"} if keep_member
+                                                          else {"time", "layer"})
+    # it behaves as a Dataset: selection by time label and arithmetic keep working
+    t = fast.time.values[5]
+    assert float(fast.sel(time=t)["ice_thickness"].max()) == float(public.sel(time=t)["ice_thickness"].max())

@@ -15,7 +15,7 @@ warm-up, except where said.  JSON keys:
 * ``peer_ratio_explicit``, ``peer_ratio_bdf``: ``scripts/peers/compare.measure`` (its own
   medians of repeats; ``--tiny`` and ``--peers-quick`` use its quick ladders): wall time of the
   best peer to reach 0.1 % thickness error on the Neumann problem divided by icecolumn's;
-  ``peers`` has the times at 0.1 % and the CPU-time ratios.
+  ``peers`` has the times at 0.1 %, the CPU-time ratios and the P1 convergence orders.
 * ``batch_speedup_per_core``: (per-member time of a loop of single ``icecolumn.run`` calls) /
   (per-member time of one ``--batch-members`` member batch) / (threads the batch used), on the
   first ``--period-days`` days of the sample winter.  The loop is timed on ``--loop-subset``
@@ -29,6 +29,14 @@ warm-up, except where said.  JSON keys:
   times, the fit ``t = a + b n`` (a fixed cost per step plus a cost per layer: ``a_s``,
   ``b_s_per_layer``) with the slope that fit implies over the same range, and a free-exponent fit
   ``t = a + b n^p``.
+* ``fixed_cost_per_run_s``: wall time of ``icecolumn.run`` on the first hour of the sample winter
+  (6 layers, two output records), the per-call cost a small run cannot avoid; ``fixed_cost`` splits
+  it into ``simulate_s`` (inputs, initial state, kernel) and ``to_dataset_s`` (the Dataset).
+* ``hourly_output_winter``: the sample winter with ``[output] interval = "1h"`` for both
+  ``[solver] output_times`` modes (``interpolated``, the default, and ``step_ends``): wall time,
+  accepted steps, end thickness (a record every hour no longer shortens the steps).
+* ``batch_winter``: ``batch_speedup_per_core`` on the whole sample winter (``--winter-members``
+  members, loop timed on ``--winter-loop`` of them), with the per-member times.
 * ``peak_memory_gb_1024``: peak resident memory (VmHWM after a reset, in a fresh process) of a
   one-winter run with daily profile output, measured at ``--mem-members`` members and, unless
   that is 1024, extrapolated linearly to 1024 (``memory.method`` says which).
@@ -266,13 +274,50 @@ def _layers(cfg, forcing, layers, members: int, repeat: int) -> dict:
             "layers": list(map(int, layers)), "time_per_step_s": per_step, "members": members}
 
 
+def _fixed_cost(cfg, repeat: int) -> dict:
+    import icecolumn as ic
+    from icecolumn import model
+    from icecolumn.output import to_dataset
+
+    c = cfg.replace("grid", layers=6)
+    forcing = _forcing(1.0 / 24.0)
+    members = [ic.Member(c, forcing)]
+    for _ in range(3):
+        ic.run(forcing, c)
+    n = max(20, 20 * repeat)  # each call is about a millisecond: many repeats per median
+    runs = [_timed(lambda: ic.run(forcing, c))[0] for _ in range(n)]
+    sims = []
+    for _ in range(n):
+        w, raw = _timed(lambda: model.simulate(members))
+        sims.append(w)
+    dss = [_timed(lambda: to_dataset(raw))[0] for _ in range(n)]
+    return {"run_s": _median(runs), "simulate_s": _median(sims), "to_dataset_s": _median(dss), "repeats": n,
+            "layers": 6, "hours": 1, "output_times": int(raw.times.size),
+            "variables": len(to_dataset(raw).data_vars)}
+
+
+def _hourly_output(cfg, forcing, repeat: int) -> dict:
+    import icecolumn as ic
+
+    out = {}
+    for mode in ("interpolated", "step_ends"):
+        c = cfg.replace("output", interval="1h").replace("solver", output_times=mode)
+        ds = ic.run(forcing, c)  # warm
+        walls = [_timed(lambda: ic.run(forcing, c))[0] for _ in range(repeat)]
+        out[mode] = {"wall_s": _median(walls), "steps_accepted": int(ds.attrs["solver_steps_accepted"]),
+                     "records": int(ds.sizes["time"]), "end_ice_thickness_m": float(ds["ice_thickness"][-1])}
+    out["wall_ratio_step_ends_over_interpolated"] = out["step_ends"]["wall_s"] / out["interpolated"]["wall_s"]
+    return out
+
+
 def _peers(quick: bool) -> dict:
     sys.path.insert(0, str(HERE / "peers"))
     import compare
 
     res = compare.measure(quick=quick)
     keep = ("peer_ratio_explicit", "peer_ratio_bdf", "peer_ratio_bdf_method", "peer_ratio_by_method",
-            "peer_ratio_explicit_cpu", "peer_ratio_bdf_cpu", "time_at_target_s", "best_error", "quick")
+            "peer_ratio_explicit_cpu", "peer_ratio_bdf_cpu", "time_at_target_s", "best_error", "quick",
+            "order_icecolumn", "order_bdf", "order_explicit")
     return {k: res.get(k) for k in keep}
 
 
@@ -289,6 +334,9 @@ def _print_table(res: dict) -> None:
     b = res["batch"]
     mem = res["memory"]
     pe = res["peers"]
+    bw = res["batch_winter"]
+    fc = res["fixed_cost"]
+    hw = res["hourly_output_winter"]
     tat = pe.get("time_at_target_s") or {}
 
     def t01(code):
@@ -307,10 +355,17 @@ def _print_table(res: dict) -> None:
          f(res["peer_ratio_bdf"], ".2f"), ">= 10"),
         ("", "  time at 0.1 %: icecolumn | explicit | solve_ivp",
          f"{t01('icecolumn')} | {t01('explicit')} | {t01('solve_ivp_' + str(pe.get('peer_ratio_bdf_method')))}", ""),
+        ("", "  P1 convergence order in layers/cells: icecolumn | solve_ivp | explicit",
+         f"{f(pe.get('order_icecolumn'), '.2f')} | {f(pe.get('order_bdf'), '.2f')} | {f(pe.get('order_explicit'), '.2f')}",
+         ""),
         ("batch_speedup_per_core", f"loop / batch per member / {b['cores_used']} cores, {b['batch_members']} members, "
          f"{b['period_days']:g} d", f(res["batch_speedup_per_core"], ".2f"), ">= 4"),
         ("", f"  loop {b['loop_sampling']}", f"{1e3 * b['per_member_loop_s']:.2f} ms/member", ""),
         ("", "  batch", f"{1e3 * b['per_member_batch_s']:.2f} ms/member", ""),
+        ("batch_winter", f"loop / batch per member / {bw['cores_used']} cores, {bw['batch_members']} members, "
+         + ("whole sample winter" if bw["period_days"] is None else f"{bw['period_days']:g} d"),
+         f(bw["batch_speedup_per_core"], ".2f"),
+         f"{1e3 * bw['per_member_loop_s']:.1f} | {1e3 * bw['per_member_batch_s']:.1f} ms/member"),
         ("newton_per_stage", "Newton iterations per implicit stage, sample winter", f(res["newton_per_stage"], ".2f"), ""),
         ("steps_per_winter", "accepted steps, sample winter" + (" (tiny: 3 days)" if res["tiny"] else ""),
          str(res["steps_per_winter"]), ""),
@@ -322,6 +377,12 @@ def _print_table(res: dict) -> None:
         ("", "  fit t = a + b n: a | b | slope it implies",
          f"{1e6 * le['a_s']:.1f} us | {1e6 * le['b_s_per_layer']:.3f} us | {f(le['implied_by_linear_fit'], '.2f')}",
          f"a is {100 * le['fixed_share_at_median_layers']:.0f} % at {le['median_layers']:g} layers"),
+        ("fixed_cost_per_run_s", f"ic.run, 1 h of the sample, {fc['layers']} layers: run | simulate | to_dataset",
+         f"{1e3 * fc['run_s']:.2f} | {1e3 * fc['simulate_s']:.2f} | {1e3 * fc['to_dataset_s']:.2f} ms",
+         f"{fc['variables']} variables"),
+        ("hourly_output_winter", "sample winter, hourly records: interpolated | step_ends",
+         f"{hw['interpolated']['wall_s']:.3f} | {hw['step_ends']['wall_s']:.3f} s",
+         f"{hw['interpolated']['steps_accepted']} | {hw['step_ends']['steps_accepted']} steps"),
         ("peak_memory_gb_1024", f"1024 members, winter, daily profiles ({'extrapolated' if mem['members_measured'] != 1024 else 'measured'})",
          f(res["peak_memory_gb_1024"], ".3f") + " GB", "< 2 GB"),
         ("", f"  measured at {mem['members_measured']} members", f"{mem['measured_peak_gb']:.3f} GB", ""),
@@ -351,6 +412,8 @@ def main(argv=None) -> dict:
     ap.add_argument("--exp-layers", type=int, nargs="+", default=[10, 20, 40, 80, 160])
     ap.add_argument("--exp-members", type=int, default=1024)
     ap.add_argument("--mem-members", type=int, default=128)
+    ap.add_argument("--winter-members", type=int, default=64, help="Members of the whole-winter batch figure.")
+    ap.add_argument("--winter-loop", type=int, default=8, help="Of those, members timed as single runs.")
     ap.add_argument("--_memory", nargs=3, help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
     if args._memory:
@@ -366,6 +429,7 @@ def main(argv=None) -> dict:
         args.period_days, args.batch_members, args.loop_subset = 1.0, 8, 2
         args.exp_days, args.exp_layers, args.exp_members = 0.5, [5, 10, 20], 4
         args.mem_members, mem_days, single_days = 4, "2", 3.0
+        args.winter_members, args.winter_loop = 4, 2
         args.repeat = min(args.repeat, 2)
     import icecolumn as ic
 
@@ -374,6 +438,10 @@ def main(argv=None) -> dict:
     single = _single(cfg, _forcing(single_days), args.repeat)
     batch = _batch(cfg, _forcing(args.period_days), args.batch_members, args.loop_subset, args.repeat)
     batch["period_days"] = args.period_days
+    winter = _batch(cfg, _forcing(single_days), args.winter_members, args.winter_loop, args.repeat)
+    winter["period_days"] = None if single_days is None else single_days
+    fixed = _fixed_cost(cfg, args.repeat)
+    hourly = _hourly_output(cfg, _forcing(single_days), args.repeat)
     layer = _layers(cfg, _forcing(args.exp_days), args.exp_layers, args.exp_members, args.repeat)
     memory = _memory(args.mem_members, cfg.grid.layers, mem_days, args.repeat)
     peers = _peers(quick=args.tiny or args.peers_quick)
@@ -395,6 +463,10 @@ def main(argv=None) -> dict:
         "layer_exponent": layer["apparent"],
         "layer_fit": layer,
         "peak_memory_gb_1024": memory["peak_memory_gb"],
+        "fixed_cost_per_run_s": fixed["run_s"],
+        "fixed_cost": fixed,
+        "hourly_output_winter": hourly,
+        "batch_winter": winter,
         "machine": _machine(),
         "date": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
         "commit": _git("rev-parse", "HEAD"),

@@ -31,7 +31,8 @@ def test_bench_tiny_json_and_no_overwrite(tmp_path):
     res = json.loads(out.read_text())
     assert res["tiny"] is True
     for key in ("peer_ratio_explicit", "peer_ratio_bdf", "batch_speedup_per_core", "newton_per_stage",
-                "steps_per_winter", "single_column_winter_s", "warmup_s", "peak_memory_gb_1024"):
+                "steps_per_winter", "single_column_winter_s", "warmup_s", "peak_memory_gb_1024",
+                "fixed_cost_per_run_s"):
         assert _positive(res[key]), (key, res[key])
     assert isinstance(res["steps_per_winter"], int)
     # Newton: at least one iteration per stage; the stage count is the kernel's own counter
@@ -49,6 +50,19 @@ def test_bench_tiny_json_and_no_overwrite(tmp_path):
     assert res["memory"]["method"].startswith("measured at 4 members, extrapolated")
     assert res["machine"]["cores"] >= 1 and res["date"].endswith("Z")
     assert len(res["commit"]) == 40
+    # the fixed cost is split into its two parts, each smaller than the whole call
+    fc = res["fixed_cost"]
+    assert _positive(fc["simulate_s"]) and _positive(fc["to_dataset_s"]) and fc["output_times"] == 2
+    # hourly records in both record modes: same number of records, steps counted by the kernel
+    hw = res["hourly_output_winter"]
+    assert hw["interpolated"]["records"] == hw["step_ends"]["records"] == 3 * 24 + 1
+    for mode in ("interpolated", "step_ends"):
+        assert _positive(hw[mode]["wall_s"]) and hw[mode]["steps_accepted"] >= 1
+    # a record at every step end cannot take fewer steps than hourly records demand
+    assert hw["step_ends"]["steps_accepted"] >= 3 * 24
+    bw = res["batch_winter"]
+    assert _positive(bw["batch_speedup_per_core"]) and bw["batch_members"] == 4 and bw["period_days"] == 3.0
+    assert isinstance(res["peers"]["order_icecolumn"], float)
 
     # an existing file is kept: one line on stderr, exit status 2
     before = out.read_text()

@@ -2,9 +2,9 @@
 
 :func:`run_serial` and :func:`run_parallel` (members over threads) advance every member over the
 output times ``tsec[i0] .. tsec[i1]`` and record, at each, the state and the diagnostics of
-:func:`diagnose_member`; :func:`record_initial` records the first time.  Each member is integrated
-by the same serial code on its own rows, so its numbers are the same whichever entry point and
-batch ran it.
+:func:`.record.diagnose_member` (through :func:`.record.record_row`); :func:`record_initial`
+records the first time.  Each member is integrated by the same serial code on its own rows, so
+its numbers are the same whichever entry point and batch ran it.
 """
 from __future__ import annotations
 

@@ -107,9 +107,9 @@ def saturation_vapour_pressure_derivative_scalar(temperature, over_ice):
     """d e_s / d T [hPa K-1] of :func:`saturation_vapour_pressure_scalar` (analytic)."""
     if over_ice:
         b = 273.86
-        return saturation_vapour_pressure_scalar(temperature, True) * 22.587 * b / ((temperature + b) ** 2)
+        return saturation_vapour_pressure_scalar(temperature, np.bool_(True)) * 22.587 * b / ((temperature + b) ** 2)
     b = 243.04
-    return saturation_vapour_pressure_scalar(temperature, False) * 17.625 * b / ((temperature + b) ** 2)
+    return saturation_vapour_pressure_scalar(temperature, np.bool_(False)) * 17.625 * b / ((temperature + b) ** 2)
 
 
 @jit
@@ -299,7 +299,7 @@ def air_specific_humidity_scalar(air_temperature, relative_humidity):
     if relative_humidity != relative_humidity:
         return specific_humidity_scalar(saturation_vapour_pressure_scalar(air_temperature, air_temperature < 0.0))
     return specific_humidity_scalar(relative_humidity / 100.0 * saturation_vapour_pressure_scalar(air_temperature,
-                                                                                                   False))
+                                                                                                   np.bool_(False)))
 
 
 @jit
@@ -316,7 +316,7 @@ def net_surface_flux_scalar(ts, ta, sw, lw, wind, qa, albedo, i0, ch, sensible, 
     eps = EMISSIVITY
     u = wind if wind > MIN_WIND else MIN_WIND
     turb = AIR_DENSITY * ch * u
-    es = saturation_vapour_pressure_scalar(ts, True)
+    es = saturation_vapour_pressure_scalar(ts, np.bool_(True))
     qs = specific_humidity_scalar(es)
     dqs = specific_humidity_derivative_scalar(es) * saturation_vapour_pressure_derivative_scalar(ts, True)
     f = (1.0 - albedo) * (1.0 - i0) * sw + eps * lw - eps * STEFAN_BOLTZMANN * tk ** 4
@@ -345,7 +345,7 @@ def net_water_flux_scalar(tw, ta, sw, lw, wind, qa, ch, sensible, latent):
     tk = tw + KELVIN
     u = wind if wind > MIN_WIND else MIN_WIND
     turb = AIR_DENSITY * ch * u
-    qs = specific_humidity_scalar(saturation_vapour_pressure_scalar(tw, False))
+    qs = specific_humidity_scalar(saturation_vapour_pressure_scalar(tw, np.bool_(False)))
     fs = sensible if sensible == sensible else turb * AIR_SPECIFIC_HEAT * (ta - tw)
     fl = latent if latent == latent else turb * VAPORISATION_HEAT * (qa - qs)
     return (1.0 - ALBEDO_WATER) * sw + EMISSIVITY_WATER * lw - EMISSIVITY_WATER * STEFAN_BOLTZMANN * tk ** 4 + fs + fl

@@ -118,7 +118,7 @@ def basal_velocity_at(ys, n, pars, ft, forc, t, out):
     fv = np.empty(NFORCING)
     for m in range(ys.shape[0]):
         par = pars[m]
-        forcing_at(ft, forc[m], t, 0, par, fv)
+        forcing_at(ft, forc[m], t, np.int64(0), par, fv)
         fw = heat_to_ice(ys[m], n, par) if par[P.MLD] > 0.0 else fv[F.QOCEAN]
         out[m] = basal_velocity_of_state(ys[m], n, par, fw) if ys[m, 2 * n] > 0.0 else 0.0
 

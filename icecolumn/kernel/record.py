@@ -29,7 +29,7 @@ def diagnose_member(y, n, par_in, ft, forc, t, ws, fv, temp, phi, sbr, sal, ra):
     else:
         tw = liquidus_temperature_scalar(par[P.SW])
     h = y[2 * n]
-    forcing_at(ft, forc, t, 0, par, fv)
+    forcing_at(ft, forc, t, np.int64(0), par, fv)
     if not (h > 0.0):  # open water: no profiles
         for k in range(n):
             temp[k] = np.nan

@@ -19,6 +19,8 @@ diagnostic ``salt_snow_ice_drainage``.
 """
 from __future__ import annotations
 
+import numpy as np
+
 from .._jit import jit
 from ..buoyancy import flooding_thickness_scalar, freeboard_scalar
 from ..drainage import percolation_gate_derivative_scalar, percolation_gate_scalar
@@ -186,7 +188,8 @@ def add_snow_ice_drainage(f, y, n, par, phi, temp, sbr, dtde, dtdm):
     for k in range(n):
         if snow_ice_fraction(y, n, k) <= 0.0:
             break
-        ds, de, _a, _b, _c, _d, _e, _f = snow_ice_exchange_layer(y, n, k, par, phi, temp, sbr, dtde, dtdm, False)
+        ds, de, _a, _b, _c, _d, _e, _f = snow_ice_exchange_layer(y, n, k, par, phi, temp, sbr, dtde, dtdm,
+                                                                 np.bool_(False))
         f[n + k] -= ds
         f[k] -= de
         sout += ds
@@ -203,7 +206,7 @@ def snow_ice_drainage_blocks(y, n, par, phi, temp, sbr, dtde, dtdm, di):
         if snow_ice_fraction(y, n, k) <= 0.0:
             break
         _s, _e, ds_e, ds_m, _sh, de_e, de_m, _eh = snow_ice_exchange_layer(y, n, k, par, phi, temp, sbr, dtde,
-                                                                          dtdm, True)
+                                                                          dtdm, np.bool_(True))
         di[k, 0] -= de_e
         di[k, 1] -= de_m
         di[k, 2] -= ds_e
@@ -217,6 +220,6 @@ def add_snow_ice_drainage_dh_column(col, y, n, par, phi, temp, sbr, dtde, dtdm):
         if snow_ice_fraction(y, n, k) <= 0.0:
             break
         _s, _e, _se, _sm, ds_h, _ee, _em, de_h = snow_ice_exchange_layer(y, n, k, par, phi, temp, sbr, dtde,
-                                                                        dtdm, True)
+                                                                        dtdm, np.bool_(True))
         col[k] -= de_h
         col[n + k] -= ds_h

@@ -106,7 +106,7 @@ def integrate_member(y, tc, tsec, j, jlast, tland, n, par_in, ft, forc, counters
     t = tc
     dt = y[nb + B.DT] if y[nb + B.DT] > 0.0 else par[P.INITDT]
     maxdt = par[P.MAXDT]
-    idx = 0
+    idx = np.int64(0)  # not the literal 0: one compiled signature for the callees
     proposed = dt
     while j <= jlast:
         tout = tsec[j]

@@ -102,7 +102,7 @@ def rhs(y, r, n, par, fv, fw, f, ws, want_cells, a_in, af, fresh_flow):
         if fresh_flow:
             brine_exchange(y, n, par, ws.phi, ws.sbr, ws.wflux, ws.qsink, ws.ra)
         add_return_flow_faces(n, par, ws.wflux, temp, ws.sbr, fe, fm)
-    divergence(fe, fm, n, f, True)
+    divergence(fe, fm, n, f, np.bool_(True))
     sm = add_base_fluxes(f, y, r, n, par, fw)
     f[2 * n] = r - anet
     snowmelt = add_top_budgets(f, y, n, par, fv, f0, used, s_top, a, af, fsnow, melt)
@@ -140,7 +140,7 @@ def dh_column(y, r, a, amelt, n, par, g0, ws, df0, col):
     ge = ws.sc[3]
     gm = ws.sc[4]
     transport_dh_faces(y, r, a, n, ws.temp, dtdh, ws.kc, ws.beta, ge, gm)
-    divergence(ge, gm, n, col, False)
+    divergence(ge, gm, n, col, np.bool_(False))
     add_top_dh_column(col, y, n, g0, ws.kc, df0, dtdh, amelt, ws.temp, par[P.TMELT])
     add_base_dh_column(col, y, r, n)
     if int(par[P.DRAIN]) != 0:
@@ -157,7 +157,7 @@ def dr_column(y, r, a, n, par, ws, col):
     ge = ws.sc[3]
     gm = ws.sc[4]
     transport_dr_faces(y, r, a, n, ws.beta, ge, gm)
-    divergence(ge, gm, n, col, False)
+    divergence(ge, gm, n, col, np.bool_(False))
     add_base_dr_column(col, y, r, n, par)
 
 

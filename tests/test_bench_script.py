@@ -50,7 +50,7 @@ def test_bench_tiny_json_and_no_overwrite(tmp_path):
     assert res["memory"]["method"].startswith("measured at 4 members, extrapolated")
     assert res["machine"]["cores"] >= 1 and res["date"].endswith("Z")
     assert len(res["commit"]) == 40
-    # the fixed cost is split into its two parts, each smaller than the whole call
+    # the fixed cost is split into its two parts (inputs and kernel, the Dataset); a 1-hour run has two records
     fc = res["fixed_cost"]
     assert _positive(fc["simulate_s"]) and _positive(fc["to_dataset_s"]) and fc["output_times"] == 2
     # hourly records in both record modes: same number of records, steps counted by the kernel

@@ -35,8 +35,7 @@ def _package_trees():
 def _argument_kinds(trees):
     jitted = {node.name for t in trees.values() for node in ast.walk(t)
               if isinstance(node, ast.FunctionDef) and any(_is_jit(d) for d in node.decorator_list)}
-    kinds = defaultdict(lambda: defaultdict(set))  # callee -> position -> {kind: first site}
-    sites = defaultdict(dict)
+    sites = defaultdict(dict)  # (callee, argument position) -> {kind of argument: first call site}
     for path, tree in trees.items():
         for fn in ast.walk(tree):
             if not (isinstance(fn, ast.FunctionDef) and fn.name in jitted):
@@ -44,29 +43,26 @@ def _argument_kinds(trees):
             for call in ast.walk(fn):
                 if isinstance(call, ast.Call) and isinstance(call.func, ast.Name) and call.func.id in jitted:
                     for pos, arg in enumerate(call.args):
-                        k = _kind(arg)
-                        kinds[call.func.id][pos].add(k)
-                        sites[(call.func.id, pos)].setdefault(k, f"{path}:{call.lineno}")
-    return jitted, kinds, sites
+                        sites[(call.func.id, pos)].setdefault(_kind(arg), f"{path}:{call.lineno}")
+    return jitted, sites
 
 
 def _violations(trees):
-    _, kinds, sites = _argument_kinds(trees)
+    _, sites = _argument_kinds(trees)
     bad = []
-    for callee, by_pos in kinds.items():
-        for pos, ks in by_pos.items():
-            if len(ks) > 1 and any(k[0] == "literal" for k in ks):
-                where = ", ".join(f"{k[2] if k[0] == 'literal' else 'typed'} at {s}"
-                                  for k, s in sites[(callee, pos)].items())
-                bad.append(f"{callee} argument {pos}: {where}")
+    for (callee, pos), by_kind in sites.items():
+        if len(by_kind) > 1 and any(k[0] == "literal" for k in by_kind):
+            where = ", ".join(f"{k[2] if k[0] == 'literal' else 'typed'} at {s}" for k, s in by_kind.items())
+            bad.append(f"{callee} argument {pos}: {where}")
     return bad
 
 
 def test_the_scan_sees_the_kernel():
-    jitted, kinds, _ = _argument_kinds(_package_trees())
+    jitted, sites = _argument_kinds(_package_trees())
+    callees = {callee for callee, _pos in sites}
     # the kernel has over a hundred compiled functions and calls most of them from compiled code
-    assert len(jitted) > 100 and len(kinds) > 50
-    assert {"rhs", "forcing_at", "divergence"} <= set(kinds)
+    assert len(jitted) > 100 and len(callees) > 50
+    assert {"rhs", "forcing_at", "divergence"} <= callees
 
 
 def test_no_compiled_callee_gets_a_literal_and_another_type():

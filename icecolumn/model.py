@@ -193,7 +193,7 @@ def _steady_surface_temperature(cfg: Config, air: float) -> float:
 
 def run_period(cfg: Config, forcing: xr.Dataset, source: str = "forcing") -> tuple[np.datetime64, np.datetime64]:
     """Start and end of the run: ``[run]`` start/end or the forcing file's span."""
-    t = forcing["time"].values
+    t = forcing.variables["time"].values
     start = cfg.run.start_time if cfg.run.start else t[0]
     end = cfg.run.end_time if cfg.run.end else t[-1]
     if start < t[0] or end > t[-1]:
@@ -247,16 +247,19 @@ def _seconds(times) -> np.ndarray:
 def _forcing_arrays(members: Sequence[Member], start: np.datetime64):
     """Common forcing time axis (seconds since the epoch) and the per-member forcing array
     ``(members, kernel.NFORCING, times)``; variables a member's forcing lacks are NaN."""
-    axes = [m.forcing["time"].values.astype("datetime64[ns]") for m in members]
+    # Dataset.variables, not Dataset[name]: no DataArray is built for each look-up
+    axes = [m.forcing.variables["time"].values.astype("datetime64[ns]") for m in members]
     same = all(a.shape == axes[0].shape and np.array_equal(a, axes[0]) for a in axes)
     common = axes[0] if same else np.unique(np.concatenate(axes))
     ft = _seconds(common)
     forc = np.full((len(members), K.NFORCING, ft.size), np.nan)
-    for i, m in enumerate(members):
-        own = _seconds(m.forcing["time"].values)
+    for i, (m, own_axis) in enumerate(zip(members, axes)):
+        own = ft if same else _seconds(own_axis)
+        variables = m.forcing.variables
         for v, name in enumerate(K.FORCING_NAMES):
-            if name in m.forcing:
-                forc[i, v] = np.interp(ft, own, m.forcing[name].values.astype(float))
+            if name in variables:
+                values = variables[name].values.astype(float)
+                forc[i, v] = values if same else np.interp(ft, own, values)
     return ft, forc
 
 

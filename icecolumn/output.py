@@ -18,7 +18,7 @@ from .constants import SEAWATER_DENSITY
 from .ocean import mixed_layer_temperature_salinity
 from ._version import __version__
 from .textfile import check_new_output, write_atomically
-from .thickness import load_bearing_thickness, slush_discounted_thickness
+from .thickness import thicknesses
 
 CAUTION = ("A model estimate is not a measurement: drill and measure the ice before going on it, "
            "and follow local ice-safety rules and qualified guidance.")
@@ -41,9 +41,13 @@ def _attrs(units, long_name, standard_name=None, cell_methods=None, **more):
     return a
 
 
-def _interval_rate(cum: np.ndarray, tsec: np.ndarray) -> np.ndarray:
-    out = np.full(cum.shape, np.nan)
-    out[..., 1:] = np.diff(cum, axis=-1) / np.diff(tsec)
+def _interval_rate(cum: np.ndarray, dt: np.ndarray) -> np.ndarray:
+    """Mean rate over each output interval of a cumulative ``cum`` (..., time); ``dt`` the
+    interval lengths [s] (one fewer than times); NaN at the first time."""
+    out = np.empty(cum.shape)
+    out[..., 0] = np.nan
+    np.subtract(cum[..., 1:], cum[..., :-1], out=out[..., 1:])
+    out[..., 1:] /= dt
     return out
 
 
@@ -75,6 +79,14 @@ def _variable(drop_member: bool, dims, data, attrs=None) -> xr.Variable:
     return xr.Variable(dims, data, attrs, fastpath=True)  # data are numpy arrays already
 
 
+def _pandas_index(values: np.ndarray):
+    """A pandas index of a 1-D coordinate, built the short way for datetimes (``pd.Index`` of a
+    datetime64 array infers the type first: about twice the time)."""
+    import pandas as pd
+
+    return pd.DatetimeIndex(values) if values.dtype.kind == "M" else pd.Index(values)
+
+
 #: Build output Datasets the direct way (:func:`_dataset`); ``False`` uses xarray's public
 #: constructor (tests compare the two).
 DIRECT_CONSTRUCTION = True
@@ -99,7 +111,7 @@ def _dataset(variables: dict, coords: dict, attrs: dict) -> xr.Dataset:
             indexes = {}
             for name, var in coords.items():
                 if var.dims == (name,):
-                    index = PandasIndex(var.values, name)
+                    index = PandasIndex(_pandas_index(var.values), name)
                     var = index.create_variables({name: var})[name]
                     indexes[name] = index
                 allv[name] = var
@@ -126,6 +138,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     nm, nt = st.shape[:2]
     times = raw.times
     tsec = ((times - times[0]) / np.timedelta64(1, "s")).astype(float)
+    dt = np.diff(tsec)
     sv = K.view(st, n)
     e = sv.enthalpy_content
     m = sv.salt_content
@@ -167,9 +180,8 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         s_ocean = np.where(np.isfinite(s_ml_now), s_ml_now, s_ocean)
     slush = np.array([c.output.slush_liquid_fraction for c in raw.configs])
     bearing = np.array([c.output.load_bearing_liquid_fraction for c in raw.configs])
-    profiles = (raw.liquid_fraction, raw.temperature, raw.bulk_salinity, h, s_ocean)
-    h_ice = np.stack([slush_discounted_thickness(*(x[i] for x in profiles), slush[i]) for i in range(nm)])
-    h_bearing = np.stack([load_bearing_thickness(*(x[i] for x in profiles), bearing[i]) for i in range(nm)])
+    h_ice, h_bearing = thicknesses(raw.liquid_fraction, raw.temperature, raw.bulk_salinity, h, s_ocean,
+                                   slush[:, None], bearing[:, None])
     v["ice_thickness"] = (dims_t, h_ice, _attrs("m", "ice thickness (the porous bottom counted by its solid fraction)",
                                                 "sea_ice_thickness", comment=THICKNESS_DEFINITION))
     v["interface_depth"] = (dims_t, h, _attrs("m", "depth of the ice-ocean interface below the ice surface",
@@ -200,10 +212,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["sea_ice_area_fraction"] = (dims_t, ice.astype(np.float64),
                                   _attrs("1", "ice cover of the column (1 ice, 0 open water)", "sea_ice_area_fraction",
                                          comment="open water after complete melt-out, until new ice forms"))
-    v["growth_rate"] = (dims_t, _interval_rate(h_ice, tsec),
+    v["growth_rate"] = (dims_t, _interval_rate(h_ice, dt),
                         _attrs("m s-1", "rate of change of ice thickness",
                                "tendency_of_sea_ice_thickness_due_to_thermodynamics", cm))
-    v["ocean_heat_flux"] = (dims_t, _interval_rate(e_ocean, tsec),
+    v["ocean_heat_flux"] = (dims_t, _interval_rate(e_ocean, dt),
                             _attrs("W m-2", "ocean heat flux into the ice base", None, cm,
                                    source="; ".join(sorted(set(raw.ocean_heat_flux_source))),
                                    comment="interval mean of the change of energy_input_ocean (in open water: "
@@ -234,7 +246,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         _attrs("kg m-2", f"net salt released from snow-ice by its brine exchange with the ocean, {cum}",
                comment="already part of salt_released_drainage (never add the two)"))
     v["salt_released_melt"] = (dims_t, s_melt, _attrs("kg m-2", f"salt released by basal melt, {cum}"))
-    v["salt_flux"] = (dims_t, _interval_rate(salt_released, tsec),
+    v["salt_flux"] = (dims_t, _interval_rate(salt_released, dt),
                       _attrs("kg m-2 s-1", "net salt flux from the ice base into the ocean",
                              "downward_sea_ice_basal_salt_flux", cm,
                              comment="interval mean of the change of salt_released; positive into the ocean"))
@@ -262,11 +274,11 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["energy_input_drainage"] = (dims_t, e_drain,
                                   _attrs("J m-2", f"enthalpy carried by the drainage exchange (sea water in minus "
                                                   f"brine out), {cum}"))
-    v["brine_flux"] = (dims_t, _interval_rate(v_drain, tsec),
+    v["brine_flux"] = (dims_t, _interval_rate(v_drain, dt),
                        _attrs("m s-1", "volume flux of brine leaving the ice base by gravity drainage", None, cm))
     v["brine_drained"] = (dims_t, v_drain, _attrs("m", f"volume of brine drained to the ocean per unit area, {cum}"))
     fresh = rho * h - m.sum(-1)
-    v["freshwater_flux"] = (dims_t, -_interval_rate(fresh, tsec),
+    v["freshwater_flux"] = (dims_t, -_interval_rate(fresh, dt),
                             _attrs("kg m-2 s-1", "net fresh water flux from the ice into the ocean", None, cm,
                                    comment="minus the rate of change of the fresh-water mass of the ice, "
                                            "rho_i h - salt_content (equal ice and brine densities): growth takes "
@@ -340,13 +352,17 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     # same Dataset as building with it and isel(member=0, drop=True), without the copying)
     drop = not keep_member and nm == 1
     variables = {k: _variable(drop, *val) for k, val in v.items()}
-    coords = {"time": xr.Variable("time", times, {"standard_name": "time", "long_name": "time (UTC)", "axis": "T"}),
+    # fastpath: times are datetime64[ns] already (model.output_times), so xarray's conversion
+    # (about 0.1 ms) has nothing to do
+    coords = {"time": xr.Variable("time", np.asarray(times, dtype="datetime64[ns]"),
+                                  {"standard_name": "time", "long_name": "time (UTC)", "axis": "T"}, fastpath=True),
               "layer": xr.Variable("layer", np.arange(1, n + 1, dtype=np.int32),
                                    {"long_name": "layer index, 1 at the top (layers are equal fractions of the ice "
-                                                 "thickness)", "units": "1", "axis": "Z", "positive": "down"})}
+                                                 "thickness)", "units": "1", "axis": "Z", "positive": "down"},
+                                   fastpath=True)}
     if not drop:
         coords["member"] = xr.Variable("member", np.arange(nm, dtype=np.int32),
-                                       {"long_name": "ensemble member", "units": "1"})
+                                       {"long_name": "ensemble member", "units": "1"}, fastpath=True)
     coords["depth"] = variables.pop("depth")
     cfg0 = raw.configs[0]
     forcing0 = raw.forcings[0]

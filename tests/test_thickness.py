@@ -7,7 +7,15 @@ import pytest
 import icecolumn as ic
 from icecolumn.forcing import forcing_from_arrays
 from icecolumn.phase import brine_salinity
-from icecolumn.thickness import load_bearing_thickness, slush_discounted_thickness
+from icecolumn.thickness import thicknesses
+
+
+def slush_discounted_thickness(phi, t, s, h, sw, slush=0.5):
+    return thicknesses(phi, t, s, h, sw, slush_liquid_fraction=slush)[0]
+
+
+def load_bearing_thickness(phi, t, s, h, sw, bearing=0.2):
+    return thicknesses(phi, t, s, h, sw, load_bearing_liquid_fraction=bearing)[1]
 
 
 def test_fresh_ice_counts_to_the_interface():
@@ -66,3 +74,26 @@ def test_salty_ice_thickness_converges_with_layers(heat_flux, drainage):
     if heat_flux > 0:
         # with an ocean heat flux the interface sits where the mush conducts it away: it converges too
         assert np.ptp(h[:, 1]) < 0.01
+
+
+def test_thicknesses_broadcast_per_member_as_column_by_column():
+    # the compiled loop over flattened columns gives, for (members, times, layers) profiles and
+    # one slush / load-bearing fraction per member, what each column gives alone (invented profiles)
+    rng = np.random.default_rng(7)
+    n = 9
+    phi = np.sort(rng.uniform(0.0, 1.0, (3, 4, n)), axis=-1)
+    temp = np.sort(rng.uniform(-12.0, -1.0, (3, 4, n)), axis=-1)
+    sal = phi * brine_salinity(temp)
+    h = rng.uniform(0.1, 2.0, (3, 4))
+    h[1, 2] = 0.0  # open water
+    sw = np.full((3, 4), 33.0)
+    slush = np.array([[0.3], [0.5], [0.7]])
+    bearing = np.array([[0.1], [0.2], [0.25]])
+    ice, lb = thicknesses(phi, temp, sal, h, sw, slush, bearing)
+    assert ice.shape == lb.shape == (3, 4)
+    for i in range(3):
+        for j in range(4):
+            one = thicknesses(phi[i, j], temp[i, j], sal[i, j], h[i, j], sw[i, j], slush[i, 0], bearing[i, 0])
+            assert float(one[0]) == ice[i, j] and float(one[1]) == lb[i, j]
+    assert ice[1, 2] == lb[1, 2] == 0.0
+    assert np.all(lb <= ice + 1e-12) and np.all(ice <= h + 1e-12)

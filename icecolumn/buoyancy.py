@@ -47,4 +47,6 @@ def draft(ice_thickness, snow_thickness, ice_density, snow_density):
     ice_density, snow_density : array_like
         [kg m-3]
     """
-    return np.vectorize(draft_scalar, otypes=[float])(ice_thickness, snow_thickness, ice_density, snow_density)
+    # the compiled formula's Python original is plain arithmetic, so it takes numpy arrays whole
+    return np.asarray(draft_scalar.py_func(*(np.asarray(x, dtype=float) for x in
+                                             (ice_thickness, snow_thickness, ice_density, snow_density))))

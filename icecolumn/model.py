@@ -325,7 +325,7 @@ def simulate(members: Sequence[Member], *, initial_states: np.ndarray | None = N
     # period is cut into pieces only to report progress
     parallel = nm > 1
     pieces = min(nt - 1, PROGRESS_PIECES) if progress is not None else 1
-    edges = np.unique(np.linspace(0, nt - 1, pieces + 1).round().astype(int))
+    edges = np.unique(np.linspace(0, nt - 1, pieces + 1).round().astype(int)) if pieces > 1 else (0, nt - 1)
     for i0, i1 in zip(edges[:-1], edges[1:]):
         K.run(ys, tsec, int(i0), int(i1), n, pars, ft, forc, rec, parallel)
         if rec.status.any():

@@ -6,6 +6,7 @@ mean"``; NaN at the first time).  Cumulative budget terms start at 0.
 """
 from __future__ import annotations
 
+import functools
 import os
 from pathlib import Path
 
@@ -79,12 +80,25 @@ def _variable(drop_member: bool, dims, data, attrs=None) -> xr.Variable:
     return xr.Variable(dims, data, attrs, fastpath=True)  # data are numpy arrays already
 
 
-def _pandas_index(values: np.ndarray):
-    """A pandas index of a 1-D coordinate, built the short way for datetimes (``pd.Index`` of a
-    datetime64 array infers the type first: about twice the time)."""
+def _xarray_index(name: str, values: np.ndarray):
+    """The xarray index of the 1-D coordinate ``name``: of the times built the short way
+    (``pd.Index`` of a datetime64 array infers the type first: about twice the time), of a
+    counter (layer, member: ``1..n`` or ``0..n-1``) shared between outputs (indexes are immutable)."""
     import pandas as pd
+    from xarray.indexes import PandasIndex
 
-    return pd.DatetimeIndex(values) if values.dtype.kind == "M" else pd.Index(values)
+    if values.dtype.kind == "M":
+        return PandasIndex(pd.DatetimeIndex(values), name)
+    if values.dtype.kind in "iu" and values.size and np.array_equal(values, values[0] + np.arange(values.size)):
+        return _counter_index(name, int(values[0]), values.size, values.dtype.str)
+    return PandasIndex(pd.Index(values), name)
+
+
+@functools.lru_cache(maxsize=64)
+def _counter_index(name: str, first: int, size: int, dtype: str):
+    from xarray.indexes import PandasIndex
+
+    return PandasIndex(np.arange(first, first + size, dtype=dtype), name)
 
 
 #: Build output Datasets the direct way (:func:`_dataset`); ``False`` uses xarray's public
@@ -105,13 +119,11 @@ def _dataset(variables: dict, coords: dict, attrs: dict) -> xr.Dataset:
     """
     if DIRECT_CONSTRUCTION:
         try:
-            from xarray.indexes import PandasIndex
-
             allv = dict(variables)
             indexes = {}
             for name, var in coords.items():
                 if var.dims == (name,):
-                    index = PandasIndex(_pandas_index(var.values), name)
+                    index = _xarray_index(name, var.values)
                     var = index.create_variables({name: var})[name]
                     indexes[name] = index
                 allv[name] = var
@@ -137,8 +149,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     st = raw.state
     nm, nt = st.shape[:2]
     times = raw.times
-    tsec = ((times - times[0]) / np.timedelta64(1, "s")).astype(float)
-    dt = np.diff(tsec)
+    dt = np.diff(times) / np.timedelta64(1, "s")
     sv = K.view(st, n)
     e = sv.enthalpy_content
     m = sv.salt_content
@@ -162,10 +173,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         h_layer = np.where(ice, h, np.nan)[..., None] / n
     rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
     salt_released = s_melt + s_drain + slot("salt_surface_melt") + slot("salt_flushing")
-    frac = (np.arange(n) + 0.5) / n
-    hm = np.where(ice, h, np.nan)[..., None]  # no layers in open water
-    depth = hm * frac
-    bounds = np.stack([hm * (np.arange(n) / n), hm * ((np.arange(n) + 1) / n)], axis=-1)
+    hm = np.where(ice, h, np.nan)[:, None, :, None]  # (member, nv, time, layer); no layers in open water
+    edges = hm * (np.arange(n + 1) / n)
+    depth = (hm * ((np.arange(n) + 0.5) / n))[:, 0]
+    bounds = np.concatenate([edges[..., :-1], edges[..., 1:]], axis=1)  # top (nv=0), bottom (nv=1)
     snow = raw.extra["snow_thickness"]
 
     dims_t = ("member", "time")
@@ -182,6 +193,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     bearing = np.array([c.output.load_bearing_liquid_fraction for c in raw.configs])
     h_ice, h_bearing = thicknesses(raw.liquid_fraction, raw.temperature, raw.bulk_salinity, h, s_ocean,
                                    slush[:, None], bearing[:, None])
+    # the interval means of the cumulative terms, in one operation
+    salt_column = m.sum(-1)
+    rate = dict(zip(("thickness", "ocean", "salt", "brine", "fresh_water"),
+                    _interval_rate(np.stack([h_ice, e_ocean, salt_released, v_drain, rho * h - salt_column]), dt)))
     v["ice_thickness"] = (dims_t, h_ice, _attrs("m", "ice thickness (the porous bottom counted by its solid fraction)",
                                                 "sea_ice_thickness", comment=THICKNESS_DEFINITION))
     v["interface_depth"] = (dims_t, h, _attrs("m", "depth of the ice-ocean interface below the ice surface",
@@ -212,10 +227,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["sea_ice_area_fraction"] = (dims_t, ice.astype(np.float64),
                                   _attrs("1", "ice cover of the column (1 ice, 0 open water)", "sea_ice_area_fraction",
                                          comment="open water after complete melt-out, until new ice forms"))
-    v["growth_rate"] = (dims_t, _interval_rate(h_ice, dt),
+    v["growth_rate"] = (dims_t, rate["thickness"],
                         _attrs("m s-1", "rate of change of ice thickness",
                                "tendency_of_sea_ice_thickness_due_to_thermodynamics", cm))
-    v["ocean_heat_flux"] = (dims_t, _interval_rate(e_ocean, dt),
+    v["ocean_heat_flux"] = (dims_t, rate["ocean"],
                             _attrs("W m-2", "ocean heat flux into the ice base", None, cm,
                                    source="; ".join(sorted(set(raw.ocean_heat_flux_source))),
                                    comment="interval mean of the change of energy_input_ocean (in open water: "
@@ -232,7 +247,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
                            _attrs("g kg-1", "salinity of the brine in the pores (liquidus)"))
     v["enthalpy"] = (dims_tl, e / h_layer,
                      _attrs("J m-3", "enthalpy per unit volume of the layer (reference liquid at 0 degC)"))
-    v["salt_content"] = (dims_t, m.sum(-1), _attrs("kg m-2", "salt in the ice column",
+    v["salt_content"] = (dims_t, salt_column, _attrs("kg m-2", "salt in the ice column",
                                                     "sea_ice_mass_content_of_salt"))
     v["salt_entrained"] = (dims_t, s_ent, _attrs("kg m-2", f"salt in all sea water taken up by the ice, {cum}"))
     v["salt_released"] = (dims_t, salt_released,
@@ -246,7 +261,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
         _attrs("kg m-2", f"net salt released from snow-ice by its brine exchange with the ocean, {cum}",
                comment="already part of salt_released_drainage (never add the two)"))
     v["salt_released_melt"] = (dims_t, s_melt, _attrs("kg m-2", f"salt released by basal melt, {cum}"))
-    v["salt_flux"] = (dims_t, _interval_rate(salt_released, dt),
+    v["salt_flux"] = (dims_t, rate["salt"],
                       _attrs("kg m-2 s-1", "net salt flux from the ice base into the ocean",
                              "downward_sea_ice_basal_salt_flux", cm,
                              comment="interval mean of the change of salt_released; positive into the ocean"))
@@ -274,11 +289,10 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     v["energy_input_drainage"] = (dims_t, e_drain,
                                   _attrs("J m-2", f"enthalpy carried by the drainage exchange (sea water in minus "
                                                   f"brine out), {cum}"))
-    v["brine_flux"] = (dims_t, _interval_rate(v_drain, dt),
+    v["brine_flux"] = (dims_t, rate["brine"],
                        _attrs("m s-1", "volume flux of brine leaving the ice base by gravity drainage", None, cm))
     v["brine_drained"] = (dims_t, v_drain, _attrs("m", f"volume of brine drained to the ocean per unit area, {cum}"))
-    fresh = rho * h - m.sum(-1)
-    v["freshwater_flux"] = (dims_t, -_interval_rate(fresh, dt),
+    v["freshwater_flux"] = (dims_t, -rate["fresh_water"],
                             _attrs("kg m-2 s-1", "net fresh water flux from the ice into the ocean", None, cm,
                                    comment="minus the rate of change of the fresh-water mass of the ice, "
                                            "rho_i h - salt_content (equal ice and brine densities): growth takes "
@@ -342,7 +356,7 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     # 5) rejects both alternatives.  As bounds of depth(time, layer) with nv last, section 7.1
     # wants at least ndim + 1 = 3 vertices (a layer of this moving grid has two, top and bottom);
     # as a data variable with nv last, section 2.4 wants the unknown dimension nv left of T, Z.
-    v["depth_bounds"] = (("member", "nv", "time", "layer"), np.moveaxis(bounds, -1, 1), _attrs("m", "depth of the layer top (nv=0) and bottom (nv=1) "
+    v["depth_bounds"] = (("member", "nv", "time", "layer"), bounds, _attrs("m", "depth of the layer top (nv=0) and bottom (nv=1) "
                                                                 "below the ice surface"))
     v["layer_state"] = (("member", "state", "time"), np.swapaxes(st, 1, 2),
                         {"units": "1", "long_name": "prognostic state vector (float64; restart data)",

@@ -11,6 +11,7 @@ durations such as ``"PT6H"`` and ``"P1DT12H"``; they are returned in seconds.
 
 from __future__ import annotations
 
+import functools
 import re
 from collections.abc import Callable, Sequence
 
@@ -73,6 +74,13 @@ def parse_duration(text: str) -> float:
     """
     if not isinstance(text, str):
         raise InputError(f"expected a duration text such as '30min', '6h' or '1D', got {text!r}")
+    return _parse_duration_text(text)
+
+
+@functools.lru_cache(maxsize=256)
+def _parse_duration_text(text: str) -> float:
+    """:func:`parse_duration` of a text, remembered (a run reads the same few settings for
+    every member; errors are not remembered)."""
     seconds: float | None = None
     m = _SHORT_DURATION.fullmatch(text)
     if m and m.group(2) in DURATION_UNITS:

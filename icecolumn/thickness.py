@@ -142,10 +142,18 @@ def thicknesses(liquid_fraction, temperature, bulk_salinity, interface_depth, oc
     profiles = [np.asarray(x, dtype=np.float64) for x in (liquid_fraction, temperature, bulk_salinity)]
     n = profiles[0].shape[-1]
     shape = np.broadcast_shapes(h.shape, *(x.shape[:-1] for x in profiles))
-    flat = [np.ascontiguousarray(np.broadcast_to(x, shape + (n,))).reshape(-1, n) for x in profiles]
-    per_column = [np.ascontiguousarray(np.broadcast_to(np.asarray(x, dtype=np.float64), shape)).reshape(-1)
+    flat = [_rows(x, shape + (n,)).reshape(-1, n) for x in profiles]
+    per_column = [_rows(x, shape).reshape(-1)
                   for x in (h, ocean_salinity, slush_liquid_fraction, load_bearing_liquid_fraction)]
     out_ice = np.empty(shape)
     out_bearing = np.empty(shape)
     _column_thicknesses(*flat, *per_column, out_ice.reshape(-1), out_bearing.reshape(-1))
     return out_ice, out_bearing
+
+
+def _rows(x, shape) -> np.ndarray:
+    """``x`` as a C-contiguous float64 array of ``shape`` (broadcast and copied only if needed)."""
+    x = np.asarray(x, dtype=np.float64)
+    if x.shape != shape:
+        x = np.broadcast_to(x, shape)
+    return np.ascontiguousarray(x)

@@ -42,3 +42,6 @@ _._cache  # icecolumn/_jit.py, numba.core.dispatcher.Dispatcher._cache
 # PEP 562 module hooks of icecolumn/__init__.py, called by Python on attribute access and dir().
 __getattr__  # icecolumn/__init__.py
 __dir__  # icecolumn/__init__.py
+
+# xarray reads the slots that icecolumn/output.py _direct_variable sets (Variable.encoding).
+_._encoding  # icecolumn/output.py

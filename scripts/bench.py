@@ -31,7 +31,9 @@ warm-up, except where said.  JSON keys:
   ``t = a + b n^p``.
 * ``fixed_cost_per_run_s``: wall time of ``icecolumn.run`` on the first hour of the sample winter
   (6 layers, two output records), the per-call cost a small run cannot avoid; ``fixed_cost`` splits
-  it into ``simulate_s`` (inputs, initial state, kernel) and ``to_dataset_s`` (the Dataset).
+  it into ``simulate_s`` (inputs, initial state, kernel) and ``to_dataset_s`` (the Dataset), and
+  gives ``kernel_s`` (the compiled kernel's share of ``simulate``, the hour's integration) and
+  ``outside_kernel_s`` (``run_s`` minus it: the Python cost of a call).
 * ``hourly_output_winter``: the sample winter with ``[output] interval = "1h"`` for both
   ``[solver] output_times`` modes (``interpolated``, the default, and ``step_ends``): wall time,
   accepted steps, end thickness (a record every hour no longer shortens the steps).
@@ -274,6 +276,36 @@ def _layers(cfg, forcing, layers, members: int, repeat: int) -> dict:
             "layers": list(map(int, layers)), "time_per_step_s": per_step, "members": members}
 
 
+def _kernel_share(call, n: int) -> float:
+    """Median time per ``call`` spent in the compiled kernel (``kernel.run`` and
+    ``kernel.record``, timed by wrapping them for the duration of the measurement)."""
+    from icecolumn import kernel as K
+
+    spent = [0.0]
+    originals = {name: getattr(K, name) for name in ("run", "record")}
+
+    def timed(f):
+        def wrapper(*args):
+            t0 = time.perf_counter()
+            out = f(*args)
+            spent[0] += time.perf_counter() - t0
+            return out
+        return wrapper
+
+    shares = []
+    try:
+        for name, f in originals.items():
+            setattr(K, name, timed(f))
+        for _ in range(n):
+            spent[0] = 0.0
+            call()
+            shares.append(spent[0])
+    finally:
+        for name, f in originals.items():
+            setattr(K, name, f)
+    return _median(shares)
+
+
 def _fixed_cost(cfg, repeat: int) -> dict:
     import icecolumn as ic
     from icecolumn import model
@@ -291,7 +323,9 @@ def _fixed_cost(cfg, repeat: int) -> dict:
         w, raw = _timed(lambda: model.simulate(members))
         sims.append(w)
     dss = [_timed(lambda: to_dataset(raw))[0] for _ in range(n)]
-    return {"run_s": _median(runs), "simulate_s": _median(sims), "to_dataset_s": _median(dss), "repeats": n,
+    kernel = _kernel_share(lambda: model.simulate(members), n)
+    return {"run_s": _median(runs), "simulate_s": _median(sims), "to_dataset_s": _median(dss),
+            "kernel_s": kernel, "outside_kernel_s": _median(runs) - kernel, "repeats": n,
             "layers": 6, "hours": 1, "output_times": int(raw.times.size),
             "variables": len(to_dataset(raw).data_vars)}
 
@@ -380,6 +414,8 @@ def _print_table(res: dict) -> None:
         ("fixed_cost_per_run_s", f"ic.run, 1 h of the sample, {fc['layers']} layers: run | simulate | to_dataset",
          f"{1e3 * fc['run_s']:.2f} | {1e3 * fc['simulate_s']:.2f} | {1e3 * fc['to_dataset_s']:.2f} ms",
          f"{fc['variables']} variables"),
+        ("", "  of the run: in the kernel | outside it",
+         f"{1e3 * fc['kernel_s']:.2f} | {1e3 * fc['outside_kernel_s']:.2f} ms", ""),
         ("hourly_output_winter", "sample winter, hourly records: interpolated | step_ends",
          f"{hw['interpolated']['wall_s']:.3f} | {hw['step_ends']['wall_s']:.3f} s",
          f"{hw['interpolated']['steps_accepted']} | {hw['step_ends']['steps_accepted']} steps"),

@@ -53,6 +53,8 @@ def test_bench_tiny_json_and_no_overwrite(tmp_path):
     # the fixed cost is split into its two parts (inputs and kernel, the Dataset); a 1-hour run has two records
     fc = res["fixed_cost"]
     assert _positive(fc["simulate_s"]) and _positive(fc["to_dataset_s"]) and fc["output_times"] == 2
+    # the kernel's share is timed inside simulate: positive, and the rest is what is left of run_s
+    assert _positive(fc["kernel_s"]) and fc["outside_kernel_s"] == fc["run_s"] - fc["kernel_s"]
     # hourly records in both record modes: same number of records, steps counted by the kernel
     hw = res["hourly_output_winter"]
     assert hw["interpolated"]["records"] == hw["step_ends"]["records"] == 3 * 24 + 1

@@ -86,8 +86,9 @@ def _variable(drop_member: bool, dims, data, attrs=None) -> xr.Variable:
 def _direct_variable(dims: tuple, data: np.ndarray, attrs) -> xr.Variable:
     """``xr.Variable(dims, data, attrs)`` for a numeric numpy ``data`` of ``len(dims)``
     dimensions, with the slots set directly: the constructor's checks and conversions (nothing
-    to do for such data) cost about 3 us a variable, a sixth of a short run's output.  Used only
-    when :data:`_DIRECT_VARIABLES` found at import that it gives what the constructor gives."""
+    to do for such data) cost about 3 us a variable (measured: 0.14 ms of the 0.5 ms that a
+    1-hour run's output took).  Used only when :data:`_DIRECT_VARIABLES` found at import that it
+    gives what the constructor gives."""
     v = object.__new__(xr.Variable)
     v._dims, v._data, v._attrs, v._encoding = dims, data, (dict(attrs) if attrs else None), None
     return v

@@ -112,8 +112,20 @@ def conductivity(temperature, liquid_fraction, bulk_salinity=0.0, model="paralle
         [W m-1 K-1]
     """
     code = CONDUCTIVITY_MODELS[model]
-    f = np.vectorize(lambda t, p, s: conductivity_scalar(code, t, p, s, constant_value), otypes=[float])
-    return f(temperature, liquid_fraction, bulk_salinity)
+    arrays = np.broadcast_arrays(*(np.asarray(x, dtype=np.float64) for x in
+                                   (temperature, liquid_fraction, bulk_salinity)))
+    t, p, s = (np.ascontiguousarray(x).reshape(-1) for x in arrays)
+    out = np.empty(arrays[0].shape)
+    _conductivity_array(np.int64(code), t, p, s, float(constant_value), out.reshape(-1))
+    return out
+
+
+@jit
+def _conductivity_array(model, temperature, liquid_fraction, bulk_salinity, constant_value, out):
+    """:func:`conductivity_scalar` of every element of the 1-D arrays into ``out`` (one compiled
+    loop, not one Python call per value)."""
+    for i in range(temperature.size):
+        out[i] = conductivity_scalar(model, temperature[i], liquid_fraction[i], bulk_salinity[i], constant_value)
 
 
 def pure_ice_conductivity(temperature):

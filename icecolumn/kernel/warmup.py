@@ -18,7 +18,7 @@ def compile_kernel(batch: bool = True) -> float:
     """Compile the serial kernel, the recording of a time and (``batch``) the threaded kernel
     with the array types of :func:`icecolumn.model.simulate`; returns the seconds it took.  The
     members are marked failed, so nothing is integrated."""
-    from .. import phase, thickness
+    from .. import phase, properties, thickness
 
     t0 = time.perf_counter()
     n = 3
@@ -38,6 +38,7 @@ def compile_kernel(batch: bool = True) -> float:
     # the numpy wrappers the model's set-up and output use
     phase.brine_salinity(np.array([-5.0]))
     phase.liquidus_temperature(np.array([34.0]))
+    properties.conductivity(np.array([-5.0]), np.array([0.1]), np.array([4.0]))  # growth-law check, buoy budget
     thickness.thicknesses(np.zeros((1, 2, n)), np.zeros((1, 2, n)), np.zeros((1, 2, n)), np.ones((1, 2)),
                           np.zeros((1, 2)), np.full((1, 1), 0.5), np.full((1, 1), 0.2))
     return time.perf_counter() - t0

@@ -198,11 +198,11 @@ def to_dataset(raw, keep_member: bool = False) -> xr.Dataset:
     frazil = slot("frazil_heat")
     energy_input = e_surf + e_ocean + e_water + e_drain + e_flush + e_flood + e_meltout
     ice = h > 0.0
-    with np.errstate(invalid="ignore", divide="ignore"):
-        h_layer = np.where(ice, h, np.nan)[..., None] / n
+    h_ice_only = np.where(ice, h, np.nan)  # no layers in open water
+    h_layer = h_ice_only[..., None] / n
     rho = np.array([c.properties.ice_density for c in raw.configs])[:, None]
     salt_released = s_melt + s_drain + slot("salt_surface_melt") + slot("salt_flushing")
-    hm = np.where(ice, h, np.nan)[:, None, :, None]  # (member, nv, time, layer); no layers in open water
+    hm = h_ice_only[:, None, :, None]  # (member, nv, time, layer)
     edges = hm * (np.arange(n + 1) / n)
     depth = (hm * ((np.arange(n) + 0.5) / n))[:, 0]
     bounds = np.concatenate([edges[..., :-1], edges[..., 1:]], axis=1)  # top (nv=0), bottom (nv=1)

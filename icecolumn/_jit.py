@@ -16,6 +16,7 @@ import ast
 import hashlib
 from pathlib import Path
 
+import numpy as np
 from numba import njit
 from numba.core import caching
 
@@ -138,3 +139,15 @@ def is_ready(dispatcher) -> bool:
         return bool(dispatcher._cache._cache_file._load_index())
     except Exception:  # noqa: BLE001 - a cache we cannot read means a compile
         return False
+
+
+def elementwise(loop, *values, leading=()):
+    """``loop(*leading, x1, ..., xk, out)`` over the broadcast ``values`` as 1-D float64 arrays,
+    returned in their broadcast shape: the numpy wrapper of a compiled loop that applies a
+    compiled scalar function to every element (one call, not one per value)."""
+    arrays = [np.asarray(v, dtype=np.float64) for v in values]
+    if len(arrays) > 1:
+        arrays = np.broadcast_arrays(*arrays)
+    out = np.empty(arrays[0].shape)
+    loop(*leading, *(a.ravel() for a in arrays), out.reshape(-1))  # out is C-contiguous: a view
+    return out

@@ -45,7 +45,7 @@ safeguarded Newton iteration on T (bracketed, with bisection fall-back); a fresh
 from __future__ import annotations
 
 import numpy as np
-from ._jit import jit
+from ._jit import elementwise, jit
 
 from .constants import BRINE_SPECIFIC_HEAT, ICE_DENSITY, ICE_SPECIFIC_HEAT, LATENT_HEAT
 
@@ -250,13 +250,6 @@ def _liquidus_temperature_array(s, out):
         out[i] = liquidus_temperature_scalar(s[i])
 
 
-def _elementwise(kernel, values):
-    x = np.asarray(values, dtype=np.float64)
-    out = np.empty(x.shape)
-    kernel(x.ravel(), out.reshape(-1))  # out is C-contiguous: reshape(-1) is a view
-    return out
-
-
 # ----------------------------------------------------------------------------------------
 # public vectorised wrappers
 
@@ -274,7 +267,7 @@ def brine_salinity(temperature):
     ndarray
         Brine salinity (0 at and above 0 degC). [g kg-1]
     """
-    return _elementwise(_brine_salinity_array, temperature)
+    return elementwise(_brine_salinity_array, temperature)
 
 
 def liquidus_temperature(brine_salinity):
@@ -290,7 +283,7 @@ def liquidus_temperature(brine_salinity):
     ndarray
         Freezing temperature. [degC]
     """
-    return _elementwise(_liquidus_temperature_array, brine_salinity)
+    return elementwise(_liquidus_temperature_array, brine_salinity)
 
 
 def enthalpy(temperature, liquid_fraction, density=ICE_DENSITY, ice_specific_heat=ICE_SPECIFIC_HEAT,

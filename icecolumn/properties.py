@@ -6,7 +6,7 @@ kernel; the public names are numpy wrappers of the same code.
 from __future__ import annotations
 
 import numpy as np
-from ._jit import jit
+from ._jit import elementwise, jit
 
 #: Conductivity model names accepted in ``[properties] conductivity_model``.
 CONDUCTIVITY_MODELS = {"constant": 0, "parallel_yen1991": 1, "untersteiner1964": 2, "pringle2007": 3}
@@ -112,18 +112,13 @@ def conductivity(temperature, liquid_fraction, bulk_salinity=0.0, model="paralle
         [W m-1 K-1]
     """
     code = CONDUCTIVITY_MODELS[model]
-    arrays = np.broadcast_arrays(*(np.asarray(x, dtype=np.float64) for x in
-                                   (temperature, liquid_fraction, bulk_salinity)))
-    t, p, s = (np.ascontiguousarray(x).reshape(-1) for x in arrays)
-    out = np.empty(arrays[0].shape)
-    _conductivity_array(np.int64(code), t, p, s, float(constant_value), out.reshape(-1))
-    return out
+    return elementwise(_conductivity_array, temperature, liquid_fraction, bulk_salinity,
+                       leading=(np.int64(code), float(constant_value)))
 
 
 @jit
-def _conductivity_array(model, temperature, liquid_fraction, bulk_salinity, constant_value, out):
-    """:func:`conductivity_scalar` of every element of the 1-D arrays into ``out`` (one compiled
-    loop, not one Python call per value)."""
+def _conductivity_array(model, constant_value, temperature, liquid_fraction, bulk_salinity, out):
+    """:func:`conductivity_scalar` of every element of the 1-D arrays into ``out``."""
     for i in range(temperature.size):
         out[i] = conductivity_scalar(model, temperature[i], liquid_fraction[i], bulk_salinity[i], constant_value)
 
